@@ -1,0 +1,383 @@
+//! [`PureEos`]: one fluid under one model, with every constant precomputed, and the
+//! properties of a phase from its compressibility root.
+
+use crate::alpha::Alpha;
+use crate::cubic::{CubicRoots, solve_cubic};
+use crate::error::{Error, ErrorKind, positive};
+use crate::fluid::{FluidConstants, GAS_CONSTANT as R, IdealGasCp};
+use crate::model::{CubicConstants, Model};
+
+/// Temperature of the ideal-gas enthalpy and entropy integrals' lower end, K.
+const T_IDEAL_ORIGIN: f64 = 298.15;
+/// Pressure of the ideal-gas entropy origin, Pa.
+const P_IDEAL_ORIGIN: f64 = 101_325.0;
+
+/// The convention that fixes absolute enthalpy and entropy. Both are conventions of the
+/// refrigeration trade (`common practice`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum ReferenceState {
+    /// h = 200 kJ/kg and s = 1 kJ/(kg K) for saturated liquid at 0 °C (273.15 K).
+    /// Needs a critical temperature above 273.15 K.
+    LiquidAtZeroCelsius,
+    /// h = 0 and s = 0 for saturated liquid at the model's normal boiling point (101 325 Pa).
+    LiquidAtNormalBoilingPoint,
+}
+
+impl ReferenceState {
+    /// A stable identifier, e.g. `liquid-at-zero-celsius`.
+    pub fn id(self) -> &'static str {
+        match self {
+            ReferenceState::LiquidAtZeroCelsius => "liquid-at-zero-celsius",
+            ReferenceState::LiquidAtNormalBoilingPoint => "liquid-at-normal-boiling-point",
+        }
+    }
+}
+
+/// Properties of one phase at (T, P).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PhaseProperties {
+    /// Molar volume after volume translation, m^3/mol.
+    pub molar_volume_m3_per_mol: f64,
+    /// Mass density after volume translation, kg/m^3.
+    pub density_kg_per_m3: f64,
+    /// Compressibility factor `P V / (R T)` of the translated volume.
+    pub compressibility: f64,
+    /// Fugacity coefficient.
+    pub fugacity_coefficient: f64,
+    /// Residual (departure) enthalpy, J/mol.
+    pub residual_enthalpy_j_per_mol: f64,
+    /// Residual (departure) entropy at (T, P), J/(mol K).
+    pub residual_entropy_j_per_mol_k: f64,
+    /// Absolute enthalpy in the chosen reference state, J/mol (needs ideal-gas data).
+    pub enthalpy_j_per_mol: Option<f64>,
+    /// Absolute entropy in the chosen reference state, J/(mol K) (needs ideal-gas data).
+    pub entropy_j_per_mol_k: Option<f64>,
+    /// Isobaric heat capacity, J/(mol K) (needs ideal-gas data).
+    pub isobaric_heat_capacity_j_per_mol_k: Option<f64>,
+    /// Isochoric heat capacity, J/(mol K) (needs ideal-gas data; from the untranslated volume).
+    pub isochoric_heat_capacity_j_per_mol_k: Option<f64>,
+}
+
+/// Residual quantities of one root, cheap to compute.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Residual {
+    pub ln_phi: f64,
+    pub h_res: f64,
+    pub s_res: f64,
+}
+
+/// One fluid under one model, ready to compute. Build once, use many times.
+#[derive(Debug, Clone)]
+pub struct PureEos {
+    name: String,
+    model: Model,
+    cubic: CubicConstants,
+    alpha: Alpha,
+    alpha_fitted: bool,
+    tc: f64,
+    pc: f64,
+    omega: f64,
+    molar_mass: f64,
+    a_c: f64,
+    b: f64,
+    shift: f64,
+    t_min: f64,
+    /// Reduced co-volume at the critical point, `Vc / b = Zc / Omega_b`.
+    pub(crate) v_c_reduced: f64,
+    ideal: Option<IdealGasCp>,
+    reference: Option<(ReferenceState, f64, f64)>,
+    pub(crate) triple_t: Option<f64>,
+    pub(crate) heat_of_fusion: Option<f64>,
+    pub(crate) melting_dv_fraction: f64,
+    pub(crate) saturation_range: (f64, f64),
+    pub(crate) solid: Option<crate::classify::SolidBoundary>,
+}
+
+impl PureEos {
+    /// Prepares `fluid` under `model`. A fitted alpha function and volume shift are used when
+    /// the fluid has a fit for this model; otherwise the model's generalized alpha and no shift.
+    pub fn new(fluid: &FluidConstants, model: Model) -> Result<PureEos, Error> {
+        fluid.validate()?;
+        let cubic = model.constants();
+        let fit = fluid.fit_for(model);
+        let (alpha, alpha_fitted, shift) = match fit {
+            Some(f) => (f.alpha, true, f.volume_shift_m3_per_mol),
+            None => (model.generalized_alpha(fluid.acentric_factor), false, 0.0),
+        };
+        let tc = fluid.critical_temperature_k;
+        let pc = fluid.critical_pressure_pa;
+        let b = cubic.omega_b * R * tc / pc;
+        if shift.abs() >= b {
+            return Err(Error::invalid(
+                "volume_shift_m3_per_mol",
+                shift,
+                format!("must be smaller in magnitude than the co-volume b = {b:.6e} m^3/mol"),
+            ));
+        }
+        let mut eos = PureEos {
+            name: fluid.name.clone(),
+            model,
+            cubic,
+            alpha,
+            alpha_fitted,
+            tc,
+            pc,
+            omega: fluid.acentric_factor,
+            molar_mass: fluid.molar_mass_kg_per_mol,
+            a_c: cubic.omega_a * R * R * tc * tc / pc,
+            b,
+            shift,
+            t_min: fluid.minimum_temperature_k(),
+            v_c_reduced: cubic.critical_compressibility() / cubic.omega_b,
+            ideal: fluid.ideal_gas_cp.clone(),
+            reference: None,
+            triple_t: fluid.triple_point_temperature_k,
+            heat_of_fusion: fluid.heat_of_fusion_j_per_mol,
+            melting_dv_fraction: fluid.melting_volume_change_fraction.unwrap_or(0.10),
+            saturation_range: (f64::NAN, f64::NAN),
+            solid: None,
+        };
+        eos.saturation_range = eos.compute_saturation_range()?;
+        eos.solid = crate::classify::SolidBoundary::estimate(&eos)?;
+        Ok(eos)
+    }
+
+    /// Fixes absolute enthalpy and entropy to `reference`. Needs ideal-gas heat-capacity data.
+    pub fn with_reference(mut self, reference: ReferenceState) -> Result<PureEos, Error> {
+        if self.ideal.is_none() {
+            return Err(Error::new(ErrorKind::MissingData {
+                what: format!(
+                    "{} has no ideal-gas heat capacity, so absolute enthalpy and entropy \
+                     (reference state {}) cannot be computed",
+                    self.name,
+                    reference.id()
+                ),
+            }));
+        }
+        self.reference = None;
+        let (t_ref, h_target, s_target) = match reference {
+            ReferenceState::LiquidAtZeroCelsius => {
+                let t0 = 273.15;
+                if t0 >= self.tc * (1.0 - crate::saturation::NEAR_CRITICAL_BAND) {
+                    return Err(Error::invalid(
+                        "reference_state",
+                        t0,
+                        format!(
+                            "liquid at 0 °C needs a critical temperature above 273.15 K; {} has \
+                             Tc = {} K: use liquid-at-normal-boiling-point",
+                            self.name, self.tc
+                        ),
+                    ));
+                }
+                // 200 kJ/kg and 1 kJ/(kg K), converted to molar units.
+                (t0, 200e3 * self.molar_mass, 1e3 * self.molar_mass)
+            }
+            ReferenceState::LiquidAtNormalBoilingPoint => {
+                (self.saturation_temperature_unchecked(P_IDEAL_ORIGIN)?, 0.0, 0.0)
+            }
+        };
+        let sat = self.solve_saturation_pressure_unchecked(t_ref)?;
+        let liquid = self.residual(t_ref, sat.pressure, sat.z_liquid);
+        let ideal = self.ideal.as_ref().expect("checked above");
+        let h_ig = R * ideal.enthalpy_over_r(T_IDEAL_ORIGIN, t_ref);
+        let s_ig = R * ideal.entropy_over_r(T_IDEAL_ORIGIN, t_ref)
+            - R * (sat.pressure / P_IDEAL_ORIGIN).ln();
+        let h_offset = h_target - (h_ig + liquid.h_res - self.shift * sat.pressure);
+        let s_offset = s_target - (s_ig + liquid.s_res);
+        self.reference = Some((reference, h_offset, s_offset));
+        Ok(self)
+    }
+
+    /// The fluid's name.
+    pub fn name(&self) -> &str {
+        &self.name
+    }
+
+    /// The model in use.
+    pub fn model(&self) -> Model {
+        self.model
+    }
+
+    /// The alpha function in use.
+    pub fn alpha(&self) -> Alpha {
+        self.alpha
+    }
+
+    /// Whether the alpha function came from a fit to reference data (else generalized).
+    pub fn alpha_is_fitted(&self) -> bool {
+        self.alpha_fitted
+    }
+
+    /// The volume shift in use, m^3/mol.
+    pub fn volume_shift_m3_per_mol(&self) -> f64 {
+        self.shift
+    }
+
+    /// The reference state in use, if absolute h and s are available.
+    pub fn reference_state(&self) -> Option<ReferenceState> {
+        self.reference.map(|r| r.0)
+    }
+
+    /// Critical temperature, K.
+    pub fn critical_temperature_k(&self) -> f64 {
+        self.tc
+    }
+
+    /// Critical pressure, Pa.
+    pub fn critical_pressure_pa(&self) -> f64 {
+        self.pc
+    }
+
+    /// Acentric factor.
+    pub fn acentric_factor(&self) -> f64 {
+        self.omega
+    }
+
+    /// Molar mass, kg/mol.
+    pub fn molar_mass_kg_per_mol(&self) -> f64 {
+        self.molar_mass
+    }
+
+    /// Lowest temperature accepted (the triple point, or 0.3 Tc if unknown), K.
+    pub fn minimum_temperature_k(&self) -> f64 {
+        self.t_min
+    }
+
+    /// Whether the ideal-gas heat-capacity correlation covers `t` (else h, s, cp are
+    /// computed with the heat capacity held at the correlation's end value).
+    pub fn ideal_gas_covers(&self, t: f64) -> bool {
+        self.ideal.as_ref().is_some_and(|c| c.covers(t))
+    }
+
+    /// Co-volume b, m^3/mol.
+    pub fn co_volume(&self) -> f64 {
+        self.b
+    }
+
+    /// a(T) and its first two temperature derivatives.
+    pub(crate) fn attraction(&self, t: f64) -> (f64, f64, f64) {
+        let al = self.alpha.eval(t / self.tc);
+        (
+            self.a_c * al.value,
+            self.a_c * al.d1 / self.tc,
+            self.a_c * al.d2 / (self.tc * self.tc),
+        )
+    }
+
+    /// `q = a / (b R T)`, the only temperature-dependent group of the reduced isotherm.
+    pub(crate) fn q(&self, t: f64) -> f64 {
+        self.attraction(t).0 / (self.b * R * t)
+    }
+
+    /// Dimensionless A and B at (T, P).
+    fn ab(&self, t: f64, p: f64) -> (f64, f64) {
+        let rt = R * t;
+        (self.attraction(t).0 * p / (rt * rt), self.b * p / rt)
+    }
+
+    /// Real compressibility roots at (T, P) that lie above B (V > b), ascending.
+    /// Always returns at least one root for T > 0, P > 0.
+    pub fn compressibility_roots(&self, t: f64, p: f64) -> CubicRoots {
+        let (a, b) = self.ab(t, p);
+        let u = self.cubic.delta1 + self.cubic.delta2;
+        let w = self.cubic.delta1 * self.cubic.delta2;
+        let c2 = -(1.0 + b - u * b);
+        let c1 = a + w * b * b - u * b - u * b * b;
+        let c0 = -(a * b + w * b * b + w * b * b * b);
+        let roots = solve_cubic(c2, c1, c0);
+        if roots.count() == 3 && roots.smallest() <= b {
+            // A spurious root at or below the co-volume: only the largest is physical.
+            return CubicRoots::single(roots.largest());
+        }
+        roots
+    }
+
+    /// `I = 1/(delta1 - delta2) ln((Z + delta1 B)/(Z + delta2 B))`, or `B/Z` when
+    /// delta1 = delta2 (van der Waals).
+    fn log_term(&self, z: f64, b: f64) -> f64 {
+        let d = self.cubic.delta1 - self.cubic.delta2;
+        if d.abs() < 1e-12 {
+            b / (z + self.cubic.delta1 * b)
+        } else {
+            ((z + self.cubic.delta1 * b) / (z + self.cubic.delta2 * b)).ln() / d
+        }
+    }
+
+    /// ln(phi), residual h and residual s of the root `z` at (T, P), untranslated.
+    pub(crate) fn residual(&self, t: f64, p: f64, z: f64) -> Residual {
+        let (a, da, _) = self.attraction(t);
+        let rt = R * t;
+        let big_a = a * p / (rt * rt);
+        let big_b = self.b * p / rt;
+        let i = self.log_term(z, big_b);
+        let ln_phi = z - 1.0 - (z - big_b).ln() - big_a / big_b * i;
+        let h_res = rt * (z - 1.0) + (t * da - a) / self.b * i;
+        let s_res = R * (z - big_b).ln() + da / self.b * i;
+        Residual { ln_phi, h_res, s_res }
+    }
+
+    /// Full properties of the phase with compressibility root `z` at (T, P).
+    pub fn phase_properties(&self, t: f64, p: f64, z: f64) -> PhaseProperties {
+        let res = self.residual(t, p, z);
+        let v_eos = z * R * t / p;
+        let v = v_eos - self.shift;
+        let mut out = PhaseProperties {
+            molar_volume_m3_per_mol: v,
+            density_kg_per_m3: self.molar_mass / v,
+            compressibility: p * v / (R * t),
+            // Translation multiplies the fugacity coefficient of every phase by exp(-cP/RT).
+            fugacity_coefficient: (res.ln_phi - self.shift * p / (R * t)).exp(),
+            residual_enthalpy_j_per_mol: res.h_res - self.shift * p,
+            residual_entropy_j_per_mol_k: res.s_res,
+            enthalpy_j_per_mol: None,
+            entropy_j_per_mol_k: None,
+            isobaric_heat_capacity_j_per_mol_k: None,
+            isochoric_heat_capacity_j_per_mol_k: None,
+        };
+        if let Some(ideal) = &self.ideal {
+            let cp_ig = R * ideal.cp_over_r(t);
+            let (cv, cp) = self.heat_capacities(t, v_eos, cp_ig);
+            out.isobaric_heat_capacity_j_per_mol_k = Some(cp);
+            out.isochoric_heat_capacity_j_per_mol_k = Some(cv);
+            if let Some((_, h_off, s_off)) = self.reference {
+                let h_ig = R * ideal.enthalpy_over_r(T_IDEAL_ORIGIN, t);
+                let s_ig = R * ideal.entropy_over_r(T_IDEAL_ORIGIN, t)
+                    - R * (p / P_IDEAL_ORIGIN).ln();
+                out.enthalpy_j_per_mol = Some(h_ig + out.residual_enthalpy_j_per_mol + h_off);
+                out.entropy_j_per_mol_k = Some(s_ig + res.s_res + s_off);
+            }
+        }
+        out
+    }
+
+    /// (cv, cp) in J/(mol K) at temperature `t` and untranslated molar volume `v`.
+    fn heat_capacities(&self, t: f64, v: f64, cp_ig: f64) -> (f64, f64) {
+        let (a, da, d2a) = self.attraction(t);
+        let b = self.b;
+        let (d1, d2) = (self.cubic.delta1, self.cubic.delta2);
+        let i = self.log_term(v / b, 1.0);
+        let cv_res = t * d2a / b * i;
+        let denom = (v + d1 * b) * (v + d2 * b);
+        let dp_dt = R / (v - b) - da / denom;
+        let dp_dv = -R * t / ((v - b) * (v - b)) + a * (2.0 * v + (d1 + d2) * b) / (denom * denom);
+        let cv = cp_ig - R + cv_res;
+        let cp = cv - t * dp_dt * dp_dt / dp_dv;
+        (cv, cp)
+    }
+
+    /// The stable root at (T, P): the only one, or of three the one with the lowest
+    /// Gibbs energy (lowest fugacity coefficient).
+    pub fn stable_root(&self, t: f64, p: f64) -> f64 {
+        let roots = self.compressibility_roots(t, p);
+        if roots.count() == 1 {
+            return roots.largest();
+        }
+        let (zl, zv) = (roots.smallest(), roots.largest());
+        if self.residual(t, p, zl).ln_phi < self.residual(t, p, zv).ln_phi { zl } else { zv }
+    }
+
+    /// Checks a temperature input: finite and positive.
+    pub(crate) fn check_temperature(&self, field: &'static str, t: f64) -> Result<f64, Error> {
+        positive(field, t)
+    }
+}

@@ -1,0 +1,174 @@
+//! Typed errors of the engine. Every variant names the offending field and, where one
+//! exists, the valid range, so that a caller can show the user exactly what to change.
+
+use std::fmt;
+
+/// An error from the engine: a kind with the details the user needs.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Error {
+    kind: ErrorKind,
+}
+
+/// What went wrong.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub enum ErrorKind {
+    /// An input was NaN or infinite.
+    NonFinite {
+        /// Name of the input field, e.g. `temperature_k`.
+        field: &'static str,
+    },
+    /// An input that must be positive was zero or negative.
+    NonPositive {
+        /// Name of the input field.
+        field: &'static str,
+        /// The value given.
+        value: f64,
+    },
+    /// An input lies outside the range the model covers.
+    OutOfRange {
+        /// Name of the input field.
+        field: &'static str,
+        /// The value given.
+        value: f64,
+        /// Lowest valid value.
+        min: f64,
+        /// Highest valid value.
+        max: f64,
+        /// Unit of value, min and max (e.g. `K`, `Pa`).
+        unit: &'static str,
+    },
+    /// The input lies in the band just below the critical point where two-phase
+    /// results are not resolvable in double precision.
+    NearCritical {
+        /// Name of the input field.
+        field: &'static str,
+        /// The value given.
+        value: f64,
+        /// The upper end of the solvable range; the band runs from here to the critical value.
+        limit: f64,
+        /// The critical value.
+        critical: f64,
+        /// Unit of the values.
+        unit: &'static str,
+    },
+    /// A model name that the engine does not know.
+    UnknownModel {
+        /// The name given.
+        name: String,
+    },
+    /// A fluid constant or model parameter is not acceptable.
+    InvalidParameter {
+        /// Name of the parameter, e.g. `acentric_factor`.
+        field: &'static str,
+        /// The value given.
+        value: f64,
+        /// Why it is rejected, including the valid range.
+        reason: String,
+    },
+    /// Data needed for the requested quantity is missing (e.g. no ideal-gas heat capacity).
+    MissingData {
+        /// What is missing.
+        what: String,
+    },
+    /// A solver did not converge. This is a defect or an input very close to a
+    /// singular point; the message says which solve failed.
+    NoConvergence {
+        /// Which solve failed.
+        what: &'static str,
+        /// Detail for the log.
+        detail: String,
+    },
+}
+
+impl Error {
+    /// Builds an error of the given kind.
+    pub fn new(kind: ErrorKind) -> Error {
+        Error { kind }
+    }
+
+    /// The kind of error with its details.
+    pub fn kind(&self) -> &ErrorKind {
+        &self.kind
+    }
+
+    /// The name of the field at fault, if the error concerns one field.
+    pub fn field(&self) -> Option<&'static str> {
+        match &self.kind {
+            ErrorKind::NonFinite { field }
+            | ErrorKind::NonPositive { field, .. }
+            | ErrorKind::OutOfRange { field, .. }
+            | ErrorKind::NearCritical { field, .. }
+            | ErrorKind::InvalidParameter { field, .. } => Some(field),
+            _ => None,
+        }
+    }
+
+    pub(crate) fn non_finite(field: &'static str) -> Error {
+        Error::new(ErrorKind::NonFinite { field })
+    }
+
+    pub(crate) fn out_of_range(
+        field: &'static str,
+        value: f64,
+        min: f64,
+        max: f64,
+        unit: &'static str,
+    ) -> Error {
+        Error::new(ErrorKind::OutOfRange { field, value, min, max, unit })
+    }
+
+    pub(crate) fn no_convergence(what: &'static str, detail: impl Into<String>) -> Error {
+        Error::new(ErrorKind::NoConvergence { what, detail: detail.into() })
+    }
+
+    pub(crate) fn invalid(field: &'static str, value: f64, reason: impl Into<String>) -> Error {
+        Error::new(ErrorKind::InvalidParameter { field, value, reason: reason.into() })
+    }
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match &self.kind {
+            ErrorKind::NonFinite { field } => write!(f, "{field} must be a finite number"),
+            ErrorKind::NonPositive { field, value } => {
+                write!(f, "{field} = {value} must be greater than zero")
+            }
+            ErrorKind::OutOfRange { field, value, min, max, unit } => write!(
+                f,
+                "{field} = {value} {unit} is outside the model's range: valid {min} {unit} to {max} {unit}"
+            ),
+            ErrorKind::NearCritical { field, value, limit, critical, unit } => write!(
+                f,
+                "{field} = {value} {unit} is within the near-critical band ({limit} {unit} to the critical \
+                 value {critical} {unit}) where the two saturated phases cannot be told apart; \
+                 valid up to {limit} {unit}"
+            ),
+            ErrorKind::UnknownModel { name } => write!(
+                f,
+                "unknown equation of state `{name}`; valid: {}",
+                crate::Model::ALL.iter().map(|m| m.id()).collect::<Vec<_>>().join(", ")
+            ),
+            ErrorKind::InvalidParameter { field, value, reason } => {
+                write!(f, "{field} = {value} is not valid: {reason}")
+            }
+            ErrorKind::MissingData { what } => write!(f, "missing data: {what}"),
+            ErrorKind::NoConvergence { what, detail } => {
+                write!(f, "{what} did not converge: {detail}")
+            }
+        }
+    }
+}
+
+impl std::error::Error for Error {}
+
+/// Checks that `value` is finite and positive.
+pub(crate) fn positive(field: &'static str, value: f64) -> Result<f64, Error> {
+    if !value.is_finite() {
+        return Err(Error::non_finite(field));
+    }
+    if value <= 0.0 {
+        return Err(Error::new(ErrorKind::NonPositive { field, value }));
+    }
+    Ok(value)
+}

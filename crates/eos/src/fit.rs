@@ -1,0 +1,228 @@
+//! Fitting a fluid's alpha function (and volume shift) to saturation data.
+//!
+//! The three alpha parameters minimise the mean squared relative error in vapor pressure,
+//! `mean((ln Psat_model - ln P_ref)^2)`, with argmin's Nelder-Mead simplex. The Peneloux
+//! volume shift is then the weighted least-squares constant that best matches the
+//! saturated-liquid molar volumes up to a chosen reduced temperature; it does not affect
+//! the vapor pressures.
+
+use crate::alpha::Alpha;
+use crate::eos::PureEos;
+use crate::error::Error;
+use crate::fluid::{FluidConstants, ModelFit};
+use crate::model::Model;
+use argmin::core::{CostFunction, Executor, State};
+use argmin::solver::neldermead::NelderMead;
+
+/// One reference saturation point.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ReferencePoint {
+    /// Temperature, K.
+    pub temperature_k: f64,
+    /// Vapor pressure, Pa.
+    pub pressure_pa: f64,
+    /// Saturated-liquid density, kg/m^3, where known.
+    pub liquid_density_kg_per_m3: Option<f64>,
+}
+
+/// Which alpha form to fit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum AlphaForm {
+    /// Twu (1991), parameters L, M, N.
+    Twu,
+    /// Mathias-Copeman (1983), parameters c1, c2, c3.
+    MathiasCopeman,
+}
+
+/// Deviation statistics of model against reference, in percent.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Deviation {
+    /// Mean absolute relative deviation, %.
+    pub mean_abs_percent: f64,
+    /// Maximum absolute relative deviation, %.
+    pub max_abs_percent: f64,
+    /// Temperature of the maximum deviation, K.
+    pub max_at_temperature_k: f64,
+    /// Number of points compared.
+    pub points: usize,
+}
+
+impl Deviation {
+    /// Statistics over `(temperature, model, reference)` triples.
+    pub fn from_triples(rows: impl IntoIterator<Item = (f64, f64, f64)>) -> Option<Deviation> {
+        let mut sum = 0.0;
+        let mut max = -1.0;
+        let mut at = f64::NAN;
+        let mut n = 0;
+        for (t, model, reference) in rows {
+            let dev = 100.0 * ((model - reference) / reference).abs();
+            sum += dev;
+            n += 1;
+            if dev > max {
+                max = dev;
+                at = t;
+            }
+        }
+        (n > 0).then(|| Deviation {
+            mean_abs_percent: sum / n as f64,
+            max_abs_percent: max,
+            max_at_temperature_k: at,
+            points: n,
+        })
+    }
+}
+
+/// The outcome of a fit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FitReport {
+    /// The fitted parameters, ready to attach to [`FluidConstants::fits`].
+    pub fit: ModelFit,
+    /// Vapor-pressure deviation of the fitted model over the points used.
+    pub vapor_pressure: Deviation,
+    /// Saturated-liquid density deviation with the fitted shift, over points up to the
+    /// density cut-off, if density data was given.
+    pub liquid_density: Option<Deviation>,
+    /// Nelder-Mead iterations used.
+    pub iterations: u64,
+}
+
+struct VaporPressureCost<'a> {
+    fluid: &'a FluidConstants,
+    model: Model,
+    form: AlphaForm,
+    points: &'a [ReferencePoint],
+}
+
+fn alpha_from(form: AlphaForm, p: &[f64]) -> Alpha {
+    match form {
+        AlphaForm::Twu => Alpha::Twu { l: p[0], m: p[1], n: p[2] },
+        AlphaForm::MathiasCopeman => Alpha::MathiasCopeman { c1: p[0], c2: p[1], c3: p[2] },
+    }
+}
+
+fn with_fit(fluid: &FluidConstants, fit: ModelFit) -> FluidConstants {
+    let mut f = fluid.clone();
+    f.fits.retain(|x| x.model != fit.model);
+    f.fits.push(fit);
+    f
+}
+
+impl CostFunction for VaporPressureCost<'_> {
+    type Param = Vec<f64>;
+    type Output = f64;
+
+    fn cost(&self, p: &Vec<f64>) -> Result<f64, argmin::core::Error> {
+        const PENALTY: f64 = 1e6;
+        // Twu parameters must keep alpha positive and decreasing (L >= 0, M > 0, N > 0,
+        // Le Guennec et al. 2016, Fluid Phase Equilib. 427, 513).
+        if self.form == AlphaForm::Twu && (p[0] < 0.0 || p[1] <= 0.0 || p[2] <= 0.0) {
+            return Ok(PENALTY);
+        }
+        let fit =
+            ModelFit { model: self.model, alpha: alpha_from(self.form, p), volume_shift_m3_per_mol: 0.0 };
+        let Ok(eos) = PureEos::new(&with_fit(self.fluid, fit), self.model) else {
+            return Ok(PENALTY);
+        };
+        let mut sum = 0.0;
+        for pt in self.points {
+            match eos.saturation_pressure(pt.temperature_k) {
+                Ok(ps) => sum += (ps / pt.pressure_pa).ln().powi(2),
+                Err(_) => return Ok(PENALTY),
+            }
+        }
+        Ok(sum / self.points.len() as f64)
+    }
+}
+
+/// Fits `form` for `model` to `points`, and the volume shift to the liquid densities at
+/// reduced temperatures up to `density_max_reduced_temperature`. Points outside the
+/// model's saturation range are rejected with an error naming them.
+pub fn fit_saturation(
+    fluid: &FluidConstants,
+    model: Model,
+    form: AlphaForm,
+    points: &[ReferencePoint],
+    density_max_reduced_temperature: f64,
+) -> Result<FitReport, Error> {
+    fluid.validate()?;
+    if points.len() < 3 {
+        return Err(Error::invalid("points", points.len() as f64, "a fit needs at least 3 points"));
+    }
+    let generalized = PureEos::new(&FluidConstants { fits: Vec::new(), ..fluid.clone() }, model)?;
+    for pt in points {
+        generalized.saturation_pressure(pt.temperature_k)?;
+        crate::error::positive("pressure_pa", pt.pressure_pa)?;
+    }
+    let start: Vec<f64> = match (form, model.generalized_alpha(fluid.acentric_factor)) {
+        (AlphaForm::MathiasCopeman, Alpha::Soave { m }) => vec![m, 0.0, 0.0],
+        (AlphaForm::MathiasCopeman, _) => vec![0.5, 0.0, 0.0],
+        // A Twu start close to the generalized Soave-type curve over 0.5 < Tr < 1.
+        (AlphaForm::Twu, _) => vec![0.4, 0.9, 2.0],
+    };
+    let simplex: Vec<Vec<f64>> = (0..=3)
+        .map(|i| {
+            let mut v = start.clone();
+            if i > 0 {
+                let step = if v[i - 1].abs() > 1e-3 { 0.1 * v[i - 1] } else { 0.1 };
+                v[i - 1] += step;
+            }
+            v
+        })
+        .collect();
+    let solver = NelderMead::new(simplex)
+        .with_sd_tolerance(1e-14)
+        .map_err(|e| Error::no_convergence("alpha fit", e.to_string()))?;
+    let cost = VaporPressureCost { fluid, model, form, points };
+    let result = Executor::new(cost, solver)
+        .configure(|s| s.max_iters(3000))
+        .run()
+        .map_err(|e| Error::no_convergence("alpha fit", e.to_string()))?;
+    let state = result.state();
+    let best = state
+        .get_best_param()
+        .cloned()
+        .ok_or_else(|| Error::no_convergence("alpha fit", "no parameters"))?;
+    let iterations = state.get_iter();
+    let alpha = alpha_from(form, &best);
+
+    // Volume shift: minimise sum(((V_eos - c) - V_ref) / V_ref)^2 in closed form.
+    let unshifted = PureEos::new(
+        &with_fit(fluid, ModelFit { model, alpha, volume_shift_m3_per_mol: 0.0 }),
+        model,
+    )?;
+    let tc = fluid.critical_temperature_k;
+    let mut num = 0.0;
+    let mut den = 0.0;
+    for pt in points {
+        if let Some(rho) = pt.liquid_density_kg_per_m3 {
+            if pt.temperature_k / tc <= density_max_reduced_temperature {
+                let sat = unshifted.saturation_at_temperature(pt.temperature_k)?;
+                let v_ref = fluid.molar_mass_kg_per_mol / rho;
+                let w = 1.0 / (v_ref * v_ref);
+                num += w * (sat.liquid.molar_volume_m3_per_mol - v_ref);
+                den += w;
+            }
+        }
+    }
+    let shift = if den > 0.0 { num / den } else { 0.0 };
+    let fit = ModelFit { model, alpha, volume_shift_m3_per_mol: shift };
+    let fitted = PureEos::new(&with_fit(fluid, fit.clone()), model)?;
+
+    let mut p_rows = Vec::new();
+    let mut d_rows = Vec::new();
+    for pt in points {
+        let sat = fitted.saturation_at_temperature(pt.temperature_k)?;
+        p_rows.push((pt.temperature_k, sat.pressure_pa, pt.pressure_pa));
+        if let Some(rho) = pt.liquid_density_kg_per_m3 {
+            if pt.temperature_k / tc <= density_max_reduced_temperature {
+                d_rows.push((pt.temperature_k, sat.liquid.density_kg_per_m3, rho));
+            }
+        }
+    }
+    Ok(FitReport {
+        fit,
+        vapor_pressure: Deviation::from_triples(p_rows).expect("at least 3 points"),
+        liquid_density: Deviation::from_triples(d_rows),
+        iterations,
+    })
+}
