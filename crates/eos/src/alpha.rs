@@ -63,10 +63,18 @@ impl Alpha {
     /// alpha and its first two derivatives at reduced temperature `tr > 0`.
     pub fn eval(&self, tr: f64) -> AlphaValue {
         match *self {
-            Alpha::Unity => AlphaValue { value: 1.0, d1: 0.0, d2: 0.0 },
+            Alpha::Unity => AlphaValue {
+                value: 1.0,
+                d1: 0.0,
+                d2: 0.0,
+            },
             Alpha::InverseSqrt => {
                 let s = tr.sqrt();
-                AlphaValue { value: 1.0 / s, d1: -0.5 / (tr * s), d2: 0.75 / (tr * tr * s) }
+                AlphaValue {
+                    value: 1.0 / s,
+                    d1: -0.5 / (tr * s),
+                    d2: 0.75 / (tr * tr * s),
+                }
             }
             Alpha::Soave { m } => polynomial_in_sqrt(tr, m, 0.0, 0.0),
             Alpha::MathiasCopeman { c1, c2, c3 } => {
@@ -84,7 +92,11 @@ impl Alpha {
                 // g = d ln(alpha) / d Tr
                 let g = n * (m - 1.0) / tr - l * nm * tr_nm / tr;
                 let dg = -n * (m - 1.0) / (tr * tr) - l * nm * (nm - 1.0) * tr_nm / (tr * tr);
-                AlphaValue { value, d1: value * g, d2: value * (g * g + dg) }
+                AlphaValue {
+                    value,
+                    d1: value * g,
+                    d2: value * (g * g + dg),
+                }
             }
         }
     }
@@ -101,7 +113,11 @@ fn polynomial_in_sqrt(tr: f64, c1: f64, c2: f64, c3: f64) -> AlphaValue {
     let ddx = 0.25 / (s * s * s);
     let f1 = f_x * dx;
     let f2 = f_xx * dx * dx + f_x * ddx;
-    AlphaValue { value: f * f, d1: 2.0 * f * f1, d2: 2.0 * (f1 * f1 + f * f2) }
+    AlphaValue {
+        value: f * f,
+        d1: 2.0 * f * f1,
+        d2: 2.0 * (f1 * f1 + f * f2),
+    }
 }
 
 #[cfg(test)]
@@ -116,8 +132,16 @@ mod tests {
             Alpha::Unity,
             Alpha::InverseSqrt,
             Alpha::Soave { m: 0.8 },
-            Alpha::Twu { l: 0.3, m: 0.87, n: 2.1 },
-            Alpha::MathiasCopeman { c1: 0.7, c2: -0.3, c3: 0.5 },
+            Alpha::Twu {
+                l: 0.3,
+                m: 0.87,
+                n: 2.1,
+            },
+            Alpha::MathiasCopeman {
+                c1: 0.7,
+                c2: -0.3,
+                c3: 0.5,
+            },
         ];
         for a in forms {
             assert!((a.eval(1.0).value - 1.0).abs() < 1e-15, "{a:?}");
@@ -126,8 +150,14 @@ mod tests {
                 let v = a.eval(tr);
                 let d1 = (a.eval(tr + h).value - a.eval(tr - h).value) / (2.0 * h);
                 let d2 = (a.eval(tr + h).d1 - a.eval(tr - h).d1) / (2.0 * h);
-                assert!((v.d1 - d1).abs() < 1e-7 * (1.0 + d1.abs()), "{a:?} d1 at {tr}");
-                assert!((v.d2 - d2).abs() < 1e-6 * (1.0 + d2.abs()), "{a:?} d2 at {tr}");
+                assert!(
+                    (v.d1 - d1).abs() < 1e-7 * (1.0 + d1.abs()),
+                    "{a:?} d1 at {tr}"
+                );
+                assert!(
+                    (v.d2 - d2).abs() < 1e-6 * (1.0 + d2.abs()),
+                    "{a:?} d2 at {tr}"
+                );
             }
         }
     }

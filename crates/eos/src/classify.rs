@@ -230,7 +230,11 @@ impl PureEos {
             estimated = true;
             Phase::SolidEstimated
         } else if t >= tc {
-            if p >= pc { Phase::SupercriticalFluid } else { Phase::GasAboveCriticalTemperature }
+            if p >= pc {
+                Phase::SupercriticalFluid
+            } else {
+                Phase::GasAboveCriticalTemperature
+            }
         } else if let Some(psat) = margins.saturation_pressure_pa {
             if ((p - psat) / psat).abs() <= SATURATION_TOLERANCE {
                 Phase::Saturated
@@ -242,7 +246,11 @@ impl PureEos {
         } else if t > t_top {
             // Inside the near-critical band: the vapor pressure is within a few parts per
             // million of Pc; compare with Pc.
-            if p >= pc { Phase::SubcooledLiquid } else { Phase::SuperheatedVapor }
+            if p >= pc {
+                Phase::SubcooledLiquid
+            } else {
+                Phase::SuperheatedVapor
+            }
         } else {
             // Below the minimum temperature and not solid: vapor below the sublimation curve,
             // or (for a fluid that contracts on melting) compressed liquid.
@@ -252,7 +260,9 @@ impl PureEos {
             }
         };
         match phase {
-            Phase::SubcooledLiquid => margins.subcooling_k = margins.temperature_margin_k.map(|m| -m),
+            Phase::SubcooledLiquid => {
+                margins.subcooling_k = margins.temperature_margin_k.map(|m| -m)
+            }
             Phase::SuperheatedVapor => margins.superheat_k = margins.temperature_margin_k,
             _ => {}
         }

@@ -12,7 +12,10 @@ pub struct CubicRoots {
 impl CubicRoots {
     /// A single real root.
     pub(crate) fn single(z: f64) -> CubicRoots {
-        CubicRoots { roots: [z; 3], len: 1 }
+        CubicRoots {
+            roots: [z; 3],
+            len: 1,
+        }
     }
 
     /// The roots, ascending.
@@ -37,44 +40,55 @@ impl CubicRoots {
 }
 
 /// Solves `z^3 + c2 z^2 + c1 z + c0 = 0` for its real roots.
+///
+/// One real root is found in closed form (Cardano where the discriminant is positive,
+/// otherwise the largest root of the trigonometric form) and polished; the other two
+/// come from the deflated quadratic with the cancellation-free formula, so that a
+/// liquid root many orders of magnitude smaller than the vapor root keeps full relative
+/// precision.
 pub fn solve_cubic(c2: f64, c1: f64, c0: f64) -> CubicRoots {
     // Depressed cubic t^3 + p t + q = 0 with z = t - c2/3.
     let shift = c2 / 3.0;
     let p = c1 - c2 * shift;
     let q = c0 - c1 * shift + 2.0 * shift * shift * shift;
     let disc = (q / 2.0) * (q / 2.0) + (p / 3.0) * (p / 3.0) * (p / 3.0);
-    let mut out = if disc > 0.0 {
-        // One real root (Cardano), written to avoid cancellation.
+    let first = if disc > 0.0 {
         let sq = disc.sqrt();
         let u = (-q / 2.0 - q.signum() * sq).cbrt();
         let t = if u != 0.0 { u - p / (3.0 * u) } else { 0.0 };
-        CubicRoots { roots: [t - shift; 3], len: 1 }
+        t - shift
     } else {
-        // Three real roots (trigonometric form); p <= 0 here.
         let r = (-p / 3.0).sqrt();
-        let arg = if r > 0.0 { (-q / (2.0 * r * r * r)).clamp(-1.0, 1.0) } else { 0.0 };
-        let phi = arg.acos() / 3.0;
-        let two_pi_3 = 2.0 * std::f64::consts::FRAC_PI_3;
-        let mut roots = [
-            2.0 * r * phi.cos() - shift,
-            2.0 * r * (phi - two_pi_3).cos() - shift,
-            2.0 * r * (phi + two_pi_3).cos() - shift,
-        ];
-        roots.sort_by(f64::total_cmp);
-        CubicRoots { roots, len: 3 }
+        let arg = if r > 0.0 {
+            (-q / (2.0 * r * r * r)).clamp(-1.0, 1.0)
+        } else {
+            0.0
+        };
+        2.0 * r * (arg.acos() / 3.0).cos() - shift
     };
-    for z in out.roots[..out.len].iter_mut() {
-        *z = polish(*z, c2, c1, c0);
+    let first = polish(first, c2, c1, c0);
+    // Deflate: z^2 + e1 z + e0 with e1 = c2 + first and e0 = -c0 / first (product of roots).
+    let e1 = c2 + first;
+    let e0 = if first != 0.0 {
+        -c0 / first
+    } else {
+        c1 + first * e1
+    };
+    let d = e1 * e1 - 4.0 * e0;
+    if d < 0.0 {
+        return CubicRoots::single(first);
     }
-    if out.len == 1 {
-        out.roots = [out.roots[0]; 3];
-    }
-    out
+    let qd = -0.5 * (e1 + e1.signum() * d.sqrt());
+    let second = if qd != 0.0 { qd } else { 0.0 };
+    let third = if qd != 0.0 { e0 / qd } else { 0.0 };
+    let mut roots = [first, polish(second, c2, c1, c0), polish(third, c2, c1, c0)];
+    roots.sort_by(f64::total_cmp);
+    CubicRoots { roots, len: 3 }
 }
 
 /// Two Newton steps on the cubic; a step is kept only if it reduces the residual.
 fn polish(mut z: f64, c2: f64, c1: f64, c0: f64) -> f64 {
-    for _ in 0..2 {
+    for _ in 0..3 {
         let f = ((z + c2) * z + c1) * z + c0;
         let df = (3.0 * z + 2.0 * c2) * z + c1;
         if df == 0.0 || f == 0.0 {

@@ -172,9 +172,11 @@ impl PureEos {
                 // 200 kJ/kg and 1 kJ/(kg K), converted to molar units.
                 (t0, 200e3 * self.molar_mass, 1e3 * self.molar_mass)
             }
-            ReferenceState::LiquidAtNormalBoilingPoint => {
-                (self.saturation_temperature_unchecked(P_IDEAL_ORIGIN)?, 0.0, 0.0)
-            }
+            ReferenceState::LiquidAtNormalBoilingPoint => (
+                self.saturation_temperature_unchecked(P_IDEAL_ORIGIN)?,
+                0.0,
+                0.0,
+            ),
         };
         let sat = self.solve_saturation_pressure_unchecked(t_ref)?;
         let liquid = self.residual(t_ref, sat.pressure, sat.z_liquid);
@@ -313,7 +315,11 @@ impl PureEos {
         let ln_phi = z - 1.0 - (z - big_b).ln() - big_a / big_b * i;
         let h_res = rt * (z - 1.0) + (t * da - a) / self.b * i;
         let s_res = R * (z - big_b).ln() + da / self.b * i;
-        Residual { ln_phi, h_res, s_res }
+        Residual {
+            ln_phi,
+            h_res,
+            s_res,
+        }
     }
 
     /// Full properties of the phase with compressibility root `z` at (T, P).
@@ -341,8 +347,8 @@ impl PureEos {
             out.isochoric_heat_capacity_j_per_mol_k = Some(cv);
             if let Some((_, h_off, s_off)) = self.reference {
                 let h_ig = R * ideal.enthalpy_over_r(T_IDEAL_ORIGIN, t);
-                let s_ig = R * ideal.entropy_over_r(T_IDEAL_ORIGIN, t)
-                    - R * (p / P_IDEAL_ORIGIN).ln();
+                let s_ig =
+                    R * ideal.entropy_over_r(T_IDEAL_ORIGIN, t) - R * (p / P_IDEAL_ORIGIN).ln();
                 out.enthalpy_j_per_mol = Some(h_ig + out.residual_enthalpy_j_per_mol + h_off);
                 out.entropy_j_per_mol_k = Some(s_ig + res.s_res + s_off);
             }
@@ -373,7 +379,11 @@ impl PureEos {
             return roots.largest();
         }
         let (zl, zv) = (roots.smallest(), roots.largest());
-        if self.residual(t, p, zl).ln_phi < self.residual(t, p, zv).ln_phi { zl } else { zv }
+        if self.residual(t, p, zl).ln_phi < self.residual(t, p, zv).ln_phi {
+            zl
+        } else {
+            zv
+        }
     }
 
     /// Checks a temperature input: finite and positive.

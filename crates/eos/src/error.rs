@@ -115,15 +115,28 @@ impl Error {
         max: f64,
         unit: &'static str,
     ) -> Error {
-        Error::new(ErrorKind::OutOfRange { field, value, min, max, unit })
+        Error::new(ErrorKind::OutOfRange {
+            field,
+            value,
+            min,
+            max,
+            unit,
+        })
     }
 
     pub(crate) fn no_convergence(what: &'static str, detail: impl Into<String>) -> Error {
-        Error::new(ErrorKind::NoConvergence { what, detail: detail.into() })
+        Error::new(ErrorKind::NoConvergence {
+            what,
+            detail: detail.into(),
+        })
     }
 
     pub(crate) fn invalid(field: &'static str, value: f64, reason: impl Into<String>) -> Error {
-        Error::new(ErrorKind::InvalidParameter { field, value, reason: reason.into() })
+        Error::new(ErrorKind::InvalidParameter {
+            field,
+            value,
+            reason: reason.into(),
+        })
     }
 }
 
@@ -134,11 +147,23 @@ impl fmt::Display for Error {
             ErrorKind::NonPositive { field, value } => {
                 write!(f, "{field} = {value} must be greater than zero")
             }
-            ErrorKind::OutOfRange { field, value, min, max, unit } => write!(
+            ErrorKind::OutOfRange {
+                field,
+                value,
+                min,
+                max,
+                unit,
+            } => write!(
                 f,
                 "{field} = {value} {unit} is outside the model's range: valid {min} {unit} to {max} {unit}"
             ),
-            ErrorKind::NearCritical { field, value, limit, critical, unit } => write!(
+            ErrorKind::NearCritical {
+                field,
+                value,
+                limit,
+                critical,
+                unit,
+            } => write!(
                 f,
                 "{field} = {value} {unit} is within the near-critical band ({limit} {unit} to the critical \
                  value {critical} {unit}) where the two saturated phases cannot be told apart; \
@@ -147,9 +172,17 @@ impl fmt::Display for Error {
             ErrorKind::UnknownModel { name } => write!(
                 f,
                 "unknown equation of state `{name}`; valid: {}",
-                crate::Model::ALL.iter().map(|m| m.id()).collect::<Vec<_>>().join(", ")
+                crate::Model::ALL
+                    .iter()
+                    .map(|m| m.id())
+                    .collect::<Vec<_>>()
+                    .join(", ")
             ),
-            ErrorKind::InvalidParameter { field, value, reason } => {
+            ErrorKind::InvalidParameter {
+                field,
+                value,
+                reason,
+            } => {
                 write!(f, "{field} = {value} is not valid: {reason}")
             }
             ErrorKind::MissingData { what } => write!(f, "missing data: {what}"),

@@ -1,7 +1,9 @@
 //! Fitting a fluid's alpha function (and volume shift) to saturation data.
 //!
 //! The three alpha parameters minimise the mean squared relative error in vapor pressure,
-//! `mean((ln Psat_model - ln P_ref)^2)`, with argmin's Nelder-Mead simplex. The Peneloux
+//! `mean((ln Psat_model - ln P_ref)^2)`, plus the squared relative error in enthalpy of
+//! vaporization (weight 0.05) where the data has it (below 0.95 Tc), with argmin's Nelder-Mead simplex
+//! restarted once from its own result. The Peneloux
 //! volume shift is then the weighted least-squares constant that best matches the
 //! saturated-liquid molar volumes up to a chosen reduced temperature; it does not affect
 //! the vapor pressures.
@@ -23,6 +25,9 @@ pub struct ReferencePoint {
     pub pressure_pa: f64,
     /// Saturated-liquid density, kg/m^3, where known.
     pub liquid_density_kg_per_m3: Option<f64>,
+    /// Enthalpy of vaporization, J/mol, where known. Points below 0.95 Tc that carry it
+    /// join the fit with the same weight as their vapor pressure.
+    pub enthalpy_of_vaporization_j_per_mol: Option<f64>,
 }
 
 /// Which alpha form to fit.
@@ -95,8 +100,16 @@ struct VaporPressureCost<'a> {
 
 fn alpha_from(form: AlphaForm, p: &[f64]) -> Alpha {
     match form {
-        AlphaForm::Twu => Alpha::Twu { l: p[0], m: p[1], n: p[2] },
-        AlphaForm::MathiasCopeman => Alpha::MathiasCopeman { c1: p[0], c2: p[1], c3: p[2] },
+        AlphaForm::Twu => Alpha::Twu {
+            l: p[0],
+            m: p[1],
+            n: p[2],
+        },
+        AlphaForm::MathiasCopeman => Alpha::MathiasCopeman {
+            c1: p[0],
+            c2: p[1],
+            c3: p[2],
+        },
     }
 }
 
@@ -113,20 +126,34 @@ impl CostFunction for VaporPressureCost<'_> {
 
     fn cost(&self, p: &Vec<f64>) -> Result<f64, argmin::core::Error> {
         const PENALTY: f64 = 1e6;
+        // Vapor pressure leads; enthalpy of vaporization only steers among near-equal fits.
+        const HVAP_WEIGHT: f64 = 0.05;
         // Twu parameters must keep alpha positive and decreasing (L >= 0, M > 0, N > 0,
         // Le Guennec et al. 2016, Fluid Phase Equilib. 427, 513).
         if self.form == AlphaForm::Twu && (p[0] < 0.0 || p[1] <= 0.0 || p[2] <= 0.0) {
             return Ok(PENALTY);
         }
-        let fit =
-            ModelFit { model: self.model, alpha: alpha_from(self.form, p), volume_shift_m3_per_mol: 0.0 };
+        let fit = ModelFit {
+            model: self.model,
+            alpha: alpha_from(self.form, p),
+            volume_shift_m3_per_mol: 0.0,
+        };
         let Ok(eos) = PureEos::new(&with_fit(self.fluid, fit), self.model) else {
             return Ok(PENALTY);
         };
         let mut sum = 0.0;
+        let tc = self.fluid.critical_temperature_k;
         for pt in self.points {
-            match eos.saturation_pressure(pt.temperature_k) {
-                Ok(ps) => sum += (ps / pt.pressure_pa).ln().powi(2),
+            match eos.saturation_at_temperature(pt.temperature_k) {
+                Ok(sat) => {
+                    sum += (sat.pressure_pa / pt.pressure_pa).ln().powi(2);
+                    if let Some(h) = pt.enthalpy_of_vaporization_j_per_mol
+                        && pt.temperature_k <= 0.95 * tc
+                    {
+                        sum += HVAP_WEIGHT
+                            * (sat.enthalpy_of_vaporization_j_per_mol / h - 1.0).powi(2);
+                    }
+                }
                 Err(_) => return Ok(PENALTY),
             }
         }
@@ -146,9 +173,19 @@ pub fn fit_saturation(
 ) -> Result<FitReport, Error> {
     fluid.validate()?;
     if points.len() < 3 {
-        return Err(Error::invalid("points", points.len() as f64, "a fit needs at least 3 points"));
+        return Err(Error::invalid(
+            "points",
+            points.len() as f64,
+            "a fit needs at least 3 points",
+        ));
     }
-    let generalized = PureEos::new(&FluidConstants { fits: Vec::new(), ..fluid.clone() }, model)?;
+    let generalized = PureEos::new(
+        &FluidConstants {
+            fits: Vec::new(),
+            ..fluid.clone()
+        },
+        model,
+    )?;
     for pt in points {
         generalized.saturation_pressure(pt.temperature_k)?;
         crate::error::positive("pressure_pa", pt.pressure_pa)?;
@@ -159,53 +196,77 @@ pub fn fit_saturation(
         // A Twu start close to the generalized Soave-type curve over 0.5 < Tr < 1.
         (AlphaForm::Twu, _) => vec![0.4, 0.9, 2.0],
     };
-    let simplex: Vec<Vec<f64>> = (0..=3)
-        .map(|i| {
-            let mut v = start.clone();
-            if i > 0 {
-                let step = if v[i - 1].abs() > 1e-3 { 0.1 * v[i - 1] } else { 0.1 };
-                v[i - 1] += step;
-            }
-            v
-        })
-        .collect();
-    let solver = NelderMead::new(simplex)
-        .with_sd_tolerance(1e-14)
-        .map_err(|e| Error::no_convergence("alpha fit", e.to_string()))?;
-    let cost = VaporPressureCost { fluid, model, form, points };
-    let result = Executor::new(cost, solver)
-        .configure(|s| s.max_iters(3000))
-        .run()
-        .map_err(|e| Error::no_convergence("alpha fit", e.to_string()))?;
-    let state = result.state();
-    let best = state
-        .get_best_param()
-        .cloned()
-        .ok_or_else(|| Error::no_convergence("alpha fit", "no parameters"))?;
-    let iterations = state.get_iter();
+    let mut best = start;
+    let mut iterations = 0;
+    for _ in 0..2 {
+        let simplex: Vec<Vec<f64>> = (0..=3)
+            .map(|i| {
+                let mut v = best.clone();
+                if i > 0 {
+                    let step = if v[i - 1].abs() > 1e-3 {
+                        0.1 * v[i - 1]
+                    } else {
+                        0.1
+                    };
+                    v[i - 1] += step;
+                }
+                v
+            })
+            .collect();
+        let solver = NelderMead::new(simplex)
+            .with_sd_tolerance(1e-14)
+            .map_err(|e| Error::no_convergence("alpha fit", e.to_string()))?;
+        let cost = VaporPressureCost {
+            fluid,
+            model,
+            form,
+            points,
+        };
+        let result = Executor::new(cost, solver)
+            .configure(|s| s.max_iters(2000))
+            .run()
+            .map_err(|e| Error::no_convergence("alpha fit", e.to_string()))?;
+        let state = result.state();
+        best = state
+            .get_best_param()
+            .cloned()
+            .ok_or_else(|| Error::no_convergence("alpha fit", "no parameters"))?;
+        iterations += state.get_iter();
+    }
     let alpha = alpha_from(form, &best);
 
     // Volume shift: minimise sum(((V_eos - c) - V_ref) / V_ref)^2 in closed form.
     let unshifted = PureEos::new(
-        &with_fit(fluid, ModelFit { model, alpha, volume_shift_m3_per_mol: 0.0 }),
+        &with_fit(
+            fluid,
+            ModelFit {
+                model,
+                alpha,
+                volume_shift_m3_per_mol: 0.0,
+            },
+        ),
         model,
     )?;
     let tc = fluid.critical_temperature_k;
     let mut num = 0.0;
     let mut den = 0.0;
     for pt in points {
-        if let Some(rho) = pt.liquid_density_kg_per_m3 {
-            if pt.temperature_k / tc <= density_max_reduced_temperature {
-                let sat = unshifted.saturation_at_temperature(pt.temperature_k)?;
-                let v_ref = fluid.molar_mass_kg_per_mol / rho;
-                let w = 1.0 / (v_ref * v_ref);
-                num += w * (sat.liquid.molar_volume_m3_per_mol - v_ref);
-                den += w;
-            }
+        if let Some(rho) = pt.liquid_density_kg_per_m3
+            && pt.temperature_k / tc <= density_max_reduced_temperature
+        {
+            let sat = unshifted.saturation_at_temperature(pt.temperature_k)?;
+            let v_ref = fluid.molar_mass_kg_per_mol / rho;
+            let w = 1.0 / (v_ref * v_ref);
+            num += w * (sat.liquid.molar_volume_m3_per_mol - v_ref);
+            den += w;
         }
     }
     let shift = if den > 0.0 { num / den } else { 0.0 };
-    let fit = ModelFit { model, alpha, volume_shift_m3_per_mol: shift };
+    let fit = ModelFit {
+        model,
+        alpha,
+        volume_shift_m3_per_mol: shift,
+    };
     let fitted = PureEos::new(&with_fit(fluid, fit.clone()), model)?;
 
     let mut p_rows = Vec::new();
@@ -213,10 +274,10 @@ pub fn fit_saturation(
     for pt in points {
         let sat = fitted.saturation_at_temperature(pt.temperature_k)?;
         p_rows.push((pt.temperature_k, sat.pressure_pa, pt.pressure_pa));
-        if let Some(rho) = pt.liquid_density_kg_per_m3 {
-            if pt.temperature_k / tc <= density_max_reduced_temperature {
-                d_rows.push((pt.temperature_k, sat.liquid.density_kg_per_m3, rho));
-            }
+        if let Some(rho) = pt.liquid_density_kg_per_m3
+            && pt.temperature_k / tc <= density_max_reduced_temperature
+        {
+            d_rows.push((pt.temperature_k, sat.liquid.density_kg_per_m3, rho));
         }
     }
     Ok(FitReport {

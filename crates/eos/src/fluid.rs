@@ -61,7 +61,8 @@ impl IdealGasCp {
         let (lo, hi) = (self.t_min_k, self.t_max_k);
         let a = &self.coefficients;
         let y = x.clamp(lo, hi);
-        let inner = a[0] * y.ln() + y * (a[1] + y * (a[2] / 2.0 + y * (a[3] / 3.0 + y * a[4] / 4.0)));
+        let inner =
+            a[0] * y.ln() + y * (a[1] + y * (a[2] / 2.0 + y * (a[3] / 3.0 + y * a[4] / 4.0)));
         inner + self.cp_over_r(y) * (x / y).ln()
     }
 }
@@ -137,13 +138,20 @@ impl FluidConstants {
     /// Lowest temperature the engine accepts for this fluid: the triple point, or
     /// 0.3 Tc when the triple point is unknown.
     pub fn minimum_temperature_k(&self) -> f64 {
-        self.triple_point_temperature_k.unwrap_or(0.3 * self.critical_temperature_k)
+        self.triple_point_temperature_k
+            .unwrap_or(0.3 * self.critical_temperature_k)
     }
 
     /// Checks every constant and returns the first problem with its field and valid range.
     pub fn validate(&self) -> Result<(), Error> {
         positive("molar_mass_kg_per_mol", self.molar_mass_kg_per_mol)?;
-        check_range("molar_mass_kg_per_mol", self.molar_mass_kg_per_mol, 1e-3, 2.0, "kg/mol")?;
+        check_range(
+            "molar_mass_kg_per_mol",
+            self.molar_mass_kg_per_mol,
+            1e-3,
+            2.0,
+            "kg/mol",
+        )?;
         let tc = positive("critical_temperature_k", self.critical_temperature_k)?;
         check_range("critical_temperature_k", tc, 1.0, 2000.0, "K")?;
         let pc = positive("critical_pressure_pa", self.critical_pressure_pa)?;
@@ -222,8 +230,14 @@ mod tests {
                 h += cp.cp_over_r(t) * dt;
                 s += cp.cp_over_r(t) / t * dt;
             }
-            assert!((cp.enthalpy_over_r(t0, t1) - h).abs() < 1e-5 * h.abs(), "h {t0}-{t1}");
-            assert!((cp.entropy_over_r(t0, t1) - s).abs() < 1e-5 * s.abs(), "s {t0}-{t1}");
+            assert!(
+                (cp.enthalpy_over_r(t0, t1) - h).abs() < 1e-5 * h.abs(),
+                "h {t0}-{t1}"
+            );
+            assert!(
+                (cp.entropy_over_r(t0, t1) - s).abs() < 1e-5 * s.abs(),
+                "s {t0}-{t1}"
+            );
         }
     }
 }

@@ -86,12 +86,20 @@ impl Model {
     /// solutions of the critical conditions, not the rounded published figures.
     pub fn constants(self) -> CubicConstants {
         match self {
-            Model::VanDerWaals => {
-                CubicConstants { delta1: 0.0, delta2: 0.0, omega_a: 27.0 / 64.0, omega_b: 0.125 }
-            }
+            Model::VanDerWaals => CubicConstants {
+                delta1: 0.0,
+                delta2: 0.0,
+                omega_a: 27.0 / 64.0,
+                omega_b: 0.125,
+            },
             Model::RedlichKwong | Model::SoaveRedlichKwong => {
                 let c = 2f64.powf(1.0 / 3.0) - 1.0;
-                CubicConstants { delta1: 1.0, delta2: 0.0, omega_a: 1.0 / (9.0 * c), omega_b: c / 3.0 }
+                CubicConstants {
+                    delta1: 1.0,
+                    delta2: 0.0,
+                    omega_a: 1.0 / (9.0 * c),
+                    omega_b: c / 3.0,
+                }
             }
             Model::PengRobinson1976 | Model::PengRobinson1978 => {
                 let s2 = std::f64::consts::SQRT_2;
@@ -113,11 +121,13 @@ impl Model {
             Model::VanDerWaals => Alpha::Unity,
             Model::RedlichKwong => Alpha::InverseSqrt,
             // Soave (1972), Chem. Eng. Sci. 27, 1197.
-            Model::SoaveRedlichKwong => {
-                Alpha::Soave { m: 0.480 + 1.574 * omega - 0.176 * omega * omega }
-            }
+            Model::SoaveRedlichKwong => Alpha::Soave {
+                m: 0.480 + 1.574 * omega - 0.176 * omega * omega,
+            },
             // Peng and Robinson (1976), Ind. Eng. Chem. Fundam. 15, 59.
-            Model::PengRobinson1976 => Alpha::Soave { m: pr76_kappa(omega) },
+            Model::PengRobinson1976 => Alpha::Soave {
+                m: pr76_kappa(omega),
+            },
             // Robinson and Peng (1978), GPA Research Report RR-28.
             Model::PengRobinson1978 => {
                 if omega > 0.491 {
@@ -126,7 +136,9 @@ impl Model {
                             + 0.016_666 * omega * omega * omega,
                     }
                 } else {
-                    Alpha::Soave { m: pr76_kappa(omega) }
+                    Alpha::Soave {
+                        m: pr76_kappa(omega),
+                    }
                 }
             }
         }
@@ -149,8 +161,11 @@ impl FromStr for Model {
     /// Parses an identifier (`peng-robinson-1978`) or a common short form (`pr78`, `srk`),
     /// ignoring case, spaces, dashes and underscores.
     fn from_str(s: &str) -> Result<Model, Error> {
-        let key: String =
-            s.chars().filter(|c| c.is_ascii_alphanumeric()).map(|c| c.to_ascii_lowercase()).collect();
+        let key: String = s
+            .chars()
+            .filter(|c| c.is_ascii_alphanumeric())
+            .map(|c| c.to_ascii_lowercase())
+            .collect();
         let model = match key.as_str() {
             "vanderwaals" | "vdw" => Model::VanDerWaals,
             "redlichkwong" | "rk" => Model::RedlichKwong,
@@ -159,7 +174,11 @@ impl FromStr for Model {
             "pengrobinson1978" | "pr78" | "pr1978" | "pr" | "pengrobinson" => {
                 Model::PengRobinson1978
             }
-            _ => return Err(Error::new(ErrorKind::UnknownModel { name: s.to_string() })),
+            _ => {
+                return Err(Error::new(ErrorKind::UnknownModel {
+                    name: s.to_string(),
+                }));
+            }
         };
         Ok(model)
     }
@@ -175,8 +194,11 @@ mod tests {
     /// RK/SRK 1/3, PR 0.3074.
     #[test]
     fn omega_constants_satisfy_the_critical_conditions() {
-        let published_zc = [(Model::VanDerWaals, 0.375), (Model::SoaveRedlichKwong, 1.0 / 3.0),
-            (Model::PengRobinson1976, 0.3074)];
+        let published_zc = [
+            (Model::VanDerWaals, 0.375),
+            (Model::SoaveRedlichKwong, 1.0 / 3.0),
+            (Model::PengRobinson1976, 0.3074),
+        ];
         for (model, zc_pub) in published_zc {
             let c = model.constants();
             let (a, b) = (c.omega_a, c.omega_b);
@@ -187,9 +209,16 @@ mod tests {
             let zc = c.critical_compressibility();
             // (Z - zc)^3 = Z^3 - 3 zc Z^2 + 3 zc^2 Z - zc^3
             assert!((c2 + 3.0 * zc).abs() < 1e-12, "{model}");
-            assert!((c1 - 3.0 * zc * zc).abs() < 1e-12, "{model}: c1 {c1} vs {}", 3.0 * zc * zc);
+            assert!(
+                (c1 - 3.0 * zc * zc).abs() < 1e-12,
+                "{model}: c1 {c1} vs {}",
+                3.0 * zc * zc
+            );
             assert!((c0 + zc * zc * zc).abs() < 1e-12, "{model}");
-            assert!((zc - zc_pub).abs() < 1e-4, "{model}: Zc {zc} vs published {zc_pub}");
+            assert!(
+                (zc - zc_pub).abs() < 1e-4,
+                "{model}: Zc {zc} vs published {zc_pub}"
+            );
         }
     }
 
@@ -199,7 +228,10 @@ mod tests {
             assert_eq!(m.id().parse::<Model>().unwrap(), m);
         }
         assert_eq!("PR78".parse::<Model>().unwrap(), Model::PengRobinson1978);
-        assert_eq!("Soave Redlich Kwong".parse::<Model>().unwrap(), Model::SoaveRedlichKwong);
+        assert_eq!(
+            "Soave Redlich Kwong".parse::<Model>().unwrap(),
+            Model::SoaveRedlichKwong
+        );
         let err = "bwr".parse::<Model>().unwrap_err();
         assert!(err.to_string().contains("peng-robinson-1978"), "{err}");
     }

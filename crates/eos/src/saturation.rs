@@ -103,7 +103,11 @@ impl PureEos {
         if roots.count() == 1 {
             let z = roots.largest();
             let v_reduced = z * R * t / (p * self.co_volume());
-            return if v_reduced > self.v_c_reduced { (1.0, z, z) } else { (-1.0, z, z) };
+            return if v_reduced > self.v_c_reduced {
+                (1.0, z, z)
+            } else {
+                (-1.0, z, z)
+            };
         }
         let (zl, zv) = (roots.smallest(), roots.largest());
         let f = self.residual(t, p, zl).ln_phi - self.residual(t, p, zv).ln_phi;
@@ -138,7 +142,10 @@ impl PureEos {
             hi *= 2.0;
             guard += 1;
             if guard > 200 {
-                return Err(Error::no_convergence("spinodal search", "vapor spinodal not bracketed"));
+                return Err(Error::no_convergence(
+                    "spinodal search",
+                    "vapor spinodal not bracketed",
+                ));
             }
         }
         let v_vap = bracketed_newton(g, vc, hi, false);
@@ -152,7 +159,11 @@ impl PureEos {
     pub(crate) fn solve_saturation_pressure_unchecked(&self, t: f64) -> Result<SatPoint, Error> {
         let (p_ls, p_vs) = self.spinodal_pressures(t)?;
         let mut hi = p_vs * (1.0 - 1e-12);
-        let floor = if p_ls > 0.0 { p_ls * (1.0 + 1e-12) } else { 0.0 };
+        let floor = if p_ls > 0.0 {
+            p_ls * (1.0 + 1e-12)
+        } else {
+            0.0
+        };
         // Start from the corresponding-states estimate, log10(P/Pc) = 7/3 (1+w)(1 - 1/Tr)
         // (Edmister 1958), and widen until the gap is positive.
         let tr = t / self.critical_temperature_k();
@@ -178,7 +189,13 @@ impl PureEos {
                 lo = floor * (1.0 + 1e-9);
             }
         }
-        let ln_p = brent(FugacityGap { eos: self, t }, lo.ln(), hi.ln(), 1e-11, "vapor pressure")?;
+        let ln_p = brent(
+            FugacityGap { eos: self, t },
+            lo.ln(),
+            hi.ln(),
+            1e-11,
+            "vapor pressure",
+        )?;
         // Newton polish in ln P: dF/d ln P = Z_L - Z_V.
         let mut ln_p = ln_p;
         let (mut f, mut zl, mut zv) = self.fugacity_gap(t, ln_p.exp());
@@ -194,9 +211,16 @@ impl PureEos {
             (ln_p, f, zl, zv) = (next, f2, zl2, zv2);
         }
         if zl == zv {
-            return Err(Error::no_convergence("vapor pressure", format!("phases merged at T = {t} K")));
+            return Err(Error::no_convergence(
+                "vapor pressure",
+                format!("phases merged at T = {t} K"),
+            ));
         }
-        Ok(SatPoint { pressure: ln_p.exp(), z_liquid: zl, z_vapor: zv })
+        Ok(SatPoint {
+            pressure: ln_p.exp(),
+            z_liquid: zl,
+            z_vapor: zv,
+        })
     }
 
     /// Highest temperature at which saturation is solved: `Tc (1 - NEAR_CRITICAL_BAND)`.
@@ -206,8 +230,11 @@ impl PureEos {
 
     fn check_saturation_temperature(&self, t: f64) -> Result<f64, Error> {
         let t = self.check_temperature("temperature_k", t)?;
-        let (t_min, t_top, tc) =
-            (self.minimum_temperature_k(), self.saturation_temperature_limit_k(), self.critical_temperature_k());
+        let (t_min, t_top, tc) = (
+            self.minimum_temperature_k(),
+            self.saturation_temperature_limit_k(),
+            self.critical_temperature_k(),
+        );
         if t < t_min || t >= tc {
             return Err(Error::out_of_range("temperature_k", t, t_min, t_top, "K"));
         }
@@ -260,9 +287,12 @@ impl PureEos {
 
     /// Computes [`Self::saturation_pressure_range_pa`] (done once, at construction).
     pub(crate) fn compute_saturation_range(&self) -> Result<(f64, f64), Error> {
-        let lo = self.solve_saturation_pressure_unchecked(self.minimum_temperature_k())?.pressure;
-        let hi =
-            self.solve_saturation_pressure_unchecked(self.saturation_temperature_limit_k())?.pressure;
+        let lo = self
+            .solve_saturation_pressure_unchecked(self.minimum_temperature_k())?
+            .pressure;
+        let hi = self
+            .solve_saturation_pressure_unchecked(self.saturation_temperature_limit_k())?
+            .pressure;
         Ok((lo, hi))
     }
 
@@ -271,7 +301,13 @@ impl PureEos {
         let t_lo = self.minimum_temperature_k();
         let t_hi = self.saturation_temperature_limit_k();
         let ln_p = p.ln();
-        let inv_t = brent(PressureGap { eos: self, ln_p }, 1.0 / t_hi, 1.0 / t_lo, 1e-13, "saturation temperature")?;
+        let inv_t = brent(
+            PressureGap { eos: self, ln_p },
+            1.0 / t_hi,
+            1.0 / t_lo,
+            1e-13,
+            "saturation temperature",
+        )?;
         // Newton polish with the Clausius-Clapeyron slope of the model itself:
         // d ln Psat / dT = dh_vap / (R T^2 (Z_V - Z_L)).
         let mut t = 1.0 / inv_t;
@@ -343,7 +379,11 @@ fn bracketed_newton(f: impl Fn(f64) -> (f64, f64), lo: f64, hi: f64, positive_at
             hi = x;
         }
         let newton = x - val / der;
-        let next = if der != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
+        let next = if der != 0.0 && newton > lo && newton < hi {
+            newton
+        } else {
+            0.5 * (lo + hi)
+        };
         if (next - x).abs() <= 1e-14 * x.abs() || hi - lo <= 1e-15 * hi {
             return next;
         }
