@@ -1,0 +1,115 @@
+//! The binodal gRPC phase-state service.
+//!
+//! [`run`] serves `binodal.v1.PhaseService` together with the standard gRPC health service
+//! (`grpc.health.v1.Health`) and, unless disabled, server reflection (`grpc.reflection.v1`), on a
+//! listener the caller has bound. It returns once the shutdown future has completed and every
+//! in-flight call has finished. [`settings`] reads and validates the configuration;
+//! [`telemetry`] sets up logging and the per-request span.
+//!
+//! ```no_run
+//! use binodal_server::settings::Settings;
+//!
+//! # async fn example() -> anyhow::Result<()> {
+//! let listener = tokio::net::TcpListener::bind("127.0.0.1:0").await?;
+//! let (stop, stopped) = tokio::sync::oneshot::channel::<()>();
+//! let server = tokio::spawn(binodal_server::run(listener, Settings::default(), async {
+//!     stopped.await.ok();
+//! }));
+//! // ... talk to the server ...
+//! stop.send(()).ok();
+//! server.await??;
+//! # Ok(())
+//! # }
+//! ```
+//!
+//! Results are advisory: fluids can be flammable, toxic or under high pressure, and every answer
+//! defers to local codes and licensed practice.
+#![deny(missing_docs)]
+
+mod convert;
+mod service;
+pub mod settings;
+mod status;
+pub mod telemetry;
+
+use std::future::Future;
+
+use anyhow::Context as _;
+use binodal_proto::v1::phase_service_server::PhaseServiceServer;
+use tokio::net::TcpListener;
+use tonic::transport::Server;
+use tonic::transport::server::TcpIncoming;
+use tonic_health::ServingStatus;
+use tonic_health::server::HealthReporter;
+
+use crate::service::PhaseApi;
+use crate::settings::Settings;
+
+/// The gRPC name of the phase service, as reported by health checks and reflection.
+pub const PHASE_SERVICE_NAME: &str = "binodal.v1.PhaseService";
+
+/// Serves the phase service, health and reflection on `listener` until `shutdown` completes.
+///
+/// `settings.listen_address` is not used: the caller binds the listener (tests bind
+/// `127.0.0.1:0`). When `shutdown` completes, health turns NOT_SERVING for the phase service and
+/// for the server as a whole, the listener closes, and the function returns once every in-flight
+/// call has finished.
+pub async fn run(
+    listener: TcpListener,
+    settings: Settings,
+    shutdown: impl Future<Output = ()>,
+) -> anyhow::Result<()> {
+    let address = listener
+        .local_addr()
+        .context("cannot read the listener's address")?;
+    let (health, health_service) = tonic_health::server::health_reporter();
+    health.set_serving::<PhaseServiceServer<PhaseApi>>().await;
+
+    let limits = &settings.limits;
+    let phase_service = PhaseServiceServer::new(PhaseApi::default())
+        .max_decoding_message_size(limits.max_message_size_bytes)
+        .max_encoding_message_size(limits.max_message_size_bytes);
+    let reflection_service = if settings.reflection {
+        Some(
+            tonic_reflection::server::Builder::configure()
+                .register_encoded_file_descriptor_set(binodal_proto::FILE_DESCRIPTOR_SET)
+                .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
+                .build_v1()
+                .context("cannot build the reflection service")?,
+        )
+    } else {
+        None
+    };
+
+    tracing::info!(
+        %address,
+        reflection = settings.reflection,
+        default_equation_of_state = settings.default_equation_of_state.name(),
+        default_reference_state = settings.default_reference_state.name(),
+        "binodal server listening",
+    );
+    Server::builder()
+        .timeout(limits.request_timeout)
+        .trace_fn(telemetry::request_span)
+        .add_service(health_service)
+        .add_optional_service(reflection_service)
+        .add_service(phase_service)
+        .serve_with_incoming_shutdown(TcpIncoming::from(listener), drain_on(shutdown, health))
+        .await
+        .context("the gRPC server failed")?;
+    tracing::info!("binodal server stopped");
+    Ok(())
+}
+
+/// Waits for `shutdown`, then reports NOT_SERVING so that clients and load balancers stop sending
+/// new calls; the server then stops accepting connections and lets in-flight calls finish.
+async fn drain_on(shutdown: impl Future<Output = ()>, health: HealthReporter) {
+    shutdown.await;
+    tracing::info!("shutdown requested: reporting NOT_SERVING and finishing in-flight calls");
+    health
+        .set_not_serving::<PhaseServiceServer<PhaseApi>>()
+        .await;
+    health
+        .set_service_status("", ServingStatus::NotServing)
+        .await;
+}
