@@ -27,12 +27,14 @@
 #![deny(missing_docs)]
 
 mod convert;
+mod engines;
 mod service;
 pub mod settings;
 mod status;
 pub mod telemetry;
 
 use std::future::Future;
+use std::sync::Arc;
 
 use anyhow::Context as _;
 use binodal_proto::v1::phase_service_server::PhaseServiceServer;
@@ -42,8 +44,9 @@ use tonic::transport::server::TcpIncoming;
 use tonic_health::ServingStatus;
 use tonic_health::server::HealthReporter;
 
+use crate::engines::Engines;
 use crate::service::PhaseApi;
-use crate::settings::Settings;
+use crate::settings::{EquationOfStateChoice, ReferenceStateChoice, Settings};
 
 /// The gRPC name of the phase service, as reported by health checks and reflection.
 pub const PHASE_SERVICE_NAME: &str = "binodal.v1.PhaseService";
@@ -62,11 +65,13 @@ pub async fn run(
     let address = listener
         .local_addr()
         .context("cannot read the listener's address")?;
+    let engines = Arc::new(prepare_engines(&settings)?);
     let (health, health_service) = tonic_health::server::health_reporter();
     health.set_serving::<PhaseServiceServer<PhaseApi>>().await;
 
     let limits = &settings.limits;
-    let phase_service = PhaseServiceServer::new(PhaseApi::default())
+    let api = PhaseApi::new(engines, limits.max_batch_length);
+    let phase_service = PhaseServiceServer::new(api)
         .max_decoding_message_size(limits.max_message_size_bytes)
         .max_encoding_message_size(limits.max_message_size_bytes);
     let reflection_service = if settings.reflection {
@@ -99,6 +104,38 @@ pub async fn run(
         .context("the gRPC server failed")?;
     tracing::info!("binodal server stopped");
     Ok(())
+}
+
+/// Loads the catalogue (with the user fluid file, if set) and prepares every engine.
+fn prepare_engines(settings: &Settings) -> anyhow::Result<Engines> {
+    let started = std::time::Instant::now();
+    let builtin = binodal_fluids::Catalogue::builtin();
+    let catalogue = match &settings.user_fluid_file {
+        Some(path) => builtin
+            .with_user_file(path)
+            .with_context(|| format!("setting 'user_fluid_file' = {}", path.display()))?,
+        None => builtin.clone(),
+    };
+    let model = match settings.default_equation_of_state {
+        EquationOfStateChoice::VanDerWaals => binodal_eos::Model::VanDerWaals,
+        EquationOfStateChoice::RedlichKwong => binodal_eos::Model::RedlichKwong,
+        EquationOfStateChoice::SoaveRedlichKwong => binodal_eos::Model::SoaveRedlichKwong,
+        EquationOfStateChoice::PengRobinson1976 => binodal_eos::Model::PengRobinson1976,
+        EquationOfStateChoice::PengRobinson1978 => binodal_eos::Model::PengRobinson1978,
+    };
+    let reference = match settings.default_reference_state {
+        ReferenceStateChoice::LiquidAtZeroCelsius => binodal_eos::ReferenceState::LiquidAtZeroCelsius,
+        ReferenceStateChoice::LiquidAtNormalBoilingPoint => {
+            binodal_eos::ReferenceState::LiquidAtNormalBoilingPoint
+        }
+    };
+    let engines = Engines::prepare(catalogue, model, reference);
+    tracing::info!(
+        fluids = engines.catalogue().fluids().len(),
+        elapsed_ms = started.elapsed().as_secs_f64() * 1e3,
+        "engines prepared"
+    );
+    Ok(engines)
 }
 
 /// Waits for `shutdown`, then reports NOT_SERVING so that clients and load balancers stop sending

@@ -1,66 +1,255 @@
-//! The `binodal.v1.PhaseService` implementation.
-//!
-//! The handlers record the requested fluid on the request span and, in this phase, answer
-//! UNIMPLEMENTED; phase 2 wires them to the engine through [`crate::convert`] and
-//! [`crate::status`].
+//! The `binodal.v1.PhaseService` implementation: each handler reads its request through
+//! [`crate::convert`], asks the engine, and maps failures through [`crate::status`].
 
+use std::sync::Arc;
+
+use binodal_eos::Phase;
+use binodal_fluids::normalize;
+use binodal_proto::v1 as pb;
 use binodal_proto::v1::phase_service_server::PhaseService;
-use binodal_proto::v1::{
-    DescribeFluidRequest, DescribeFluidResponse, GetSaturationRequest, GetSaturationResponse,
-    GetStateBatchRequest, GetStateBatchResponse, GetStateRequest, GetStateResponse,
-    ListFluidsRequest, ListFluidsResponse,
-};
 use tonic::{Request, Response, Status};
 
+use crate::convert;
+use crate::engines::Engines;
+use crate::status::{ServiceError, engine_code};
 use crate::telemetry::{record_fluid, record_fluid_name};
 
-/// The phase-state service handlers.
-#[derive(Debug, Default)]
-pub struct PhaseApi {}
+/// Batches at least this long are computed on the blocking thread pool, so that a large
+/// batch does not hold up the runtime's workers.
+const BLOCKING_BATCH: usize = 256;
 
-/// The answer of every RPC until phase 2 wires it to the engine.
-fn not_wired() -> Status {
-    Status::unimplemented("phase 2")
+/// The phase-state service handlers.
+#[derive(Debug, Clone)]
+pub struct PhaseApi {
+    engines: Arc<Engines>,
+    max_batch_length: usize,
+}
+
+impl PhaseApi {
+    /// A service over prepared engines.
+    pub fn new(engines: Arc<Engines>, max_batch_length: usize) -> PhaseApi {
+        PhaseApi { engines, max_batch_length }
+    }
+}
+
+/// Checks that a numeric request field is finite.
+fn finite(field: &str, value: f64) -> Result<f64, ServiceError> {
+    if value.is_finite() {
+        Ok(value)
+    } else {
+        Err(ServiceError::field(field, format!("{value} is not a finite number")))
+    }
+}
+
+fn state_batch(
+    engines: &Engines,
+    request: &pb::GetStateBatchRequest,
+    max_batch_length: usize,
+) -> Result<pb::GetStateBatchResponse, ServiceError> {
+    let name = convert::fluid_name(request.fluid.as_ref())?;
+    let model = convert::model_from_proto(request.equation_of_state)?;
+    let reference = convert::reference_from_proto(request.reference_state)?;
+    let (ts, ps) = (&request.temperatures_k, &request.pressures_pa);
+    if ts.is_empty() {
+        return Err(ServiceError::field("temperatures_k", "empty: give at least one point"));
+    }
+    if ts.len() != ps.len() {
+        return Err(ServiceError::field(
+            "pressures_pa",
+            format!("has {} entries but temperatures_k has {}; they must match", ps.len(), ts.len()),
+        ));
+    }
+    if ts.len() > max_batch_length {
+        return Err(ServiceError::field(
+            "temperatures_k",
+            format!("{} points exceed the server's limit of {max_batch_length} per batch", ts.len()),
+        ));
+    }
+    let chosen = engines.choose(name, model, reference)?;
+    let m = chosen.eos.molar_mass_kg_per_mol();
+    let n = ts.len();
+    let mut out = pb::GetStateBatchResponse {
+        phases: Vec::with_capacity(n),
+        densities_kg_per_m3: Vec::with_capacity(n),
+        compressibility_factors: Vec::with_capacity(n),
+        enthalpies_j_per_mol: Vec::with_capacity(n),
+        enthalpies_j_per_kg: Vec::with_capacity(n),
+        entropies_j_per_mol_k: Vec::with_capacity(n),
+        entropies_j_per_kg_k: Vec::with_capacity(n),
+        subcooling_k: Vec::with_capacity(n),
+        superheat_k: Vec::with_capacity(n),
+        pressure_above_bubble_pa: Vec::with_capacity(n),
+        pressure_below_dew_pa: Vec::with_capacity(n),
+        vapor_fractions_mol: Vec::with_capacity(n),
+        estimated: Vec::with_capacity(n),
+        near_critical: Vec::with_capacity(n),
+        paths: Vec::with_capacity(n),
+        errors: Vec::new(),
+        basis: Some(convert::basis(&chosen)),
+    };
+    let nan = f64::NAN;
+    for (i, (&t, &p)) in ts.iter().zip(ps).enumerate() {
+        match chosen.eos.state(t, p) {
+            Ok(s) => {
+                let props = &s.properties;
+                let saturated = s.phase == Phase::Saturated;
+                let value = |x: f64| if saturated { nan } else { x };
+                let margin = s.margins.temperature_margin_k;
+                let dp = s.margins.pressure_margin_pa;
+                out.phases.push(convert::phase_to_proto(s.phase) as i32);
+                out.densities_kg_per_m3.push(value(props.density_kg_per_m3));
+                out.compressibility_factors.push(value(props.compressibility));
+                let h = props.enthalpy_j_per_mol.map_or(nan, value);
+                let s_mol = props.entropy_j_per_mol_k.map_or(nan, value);
+                out.enthalpies_j_per_mol.push(h);
+                out.enthalpies_j_per_kg.push(h / m);
+                out.entropies_j_per_mol_k.push(s_mol);
+                out.entropies_j_per_kg_k.push(s_mol / m);
+                out.subcooling_k.push(margin.map_or(nan, |d| -d));
+                out.superheat_k.push(margin.unwrap_or(nan));
+                out.pressure_above_bubble_pa.push(dp.unwrap_or(nan));
+                out.pressure_below_dew_pa.push(dp.map_or(nan, |d| -d));
+                out.vapor_fractions_mol.push(nan);
+                out.estimated.push(s.estimated);
+                out.near_critical.push(s.near_critical);
+                out.paths.push(pb::ComputationPath::FullSolve as i32);
+            }
+            Err(e) => {
+                let code = match engine_code(&e) {
+                    tonic::Code::OutOfRange => pb::PointErrorCode::OutOfRange,
+                    tonic::Code::Internal => pb::PointErrorCode::NotConverged,
+                    _ => pb::PointErrorCode::InvalidInput,
+                };
+                out.errors.push(pb::PointError { index: i as u32, code: code as i32, message: e.to_string() });
+                out.phases.push(pb::Phase::Unspecified as i32);
+                for v in [
+                    &mut out.densities_kg_per_m3,
+                    &mut out.compressibility_factors,
+                    &mut out.enthalpies_j_per_mol,
+                    &mut out.enthalpies_j_per_kg,
+                    &mut out.entropies_j_per_mol_k,
+                    &mut out.entropies_j_per_kg_k,
+                    &mut out.subcooling_k,
+                    &mut out.superheat_k,
+                    &mut out.pressure_above_bubble_pa,
+                    &mut out.pressure_below_dew_pa,
+                    &mut out.vapor_fractions_mol,
+                ] {
+                    v.push(nan);
+                }
+                out.estimated.push(false);
+                out.near_critical.push(false);
+                out.paths.push(pb::ComputationPath::Unspecified as i32);
+            }
+        }
+    }
+    Ok(out)
 }
 
 #[tonic::async_trait]
 impl PhaseService for PhaseApi {
     async fn list_fluids(
         &self,
-        _request: Request<ListFluidsRequest>,
-    ) -> Result<Response<ListFluidsResponse>, Status> {
-        Err(not_wired())
+        request: Request<pb::ListFluidsRequest>,
+    ) -> Result<Response<pb::ListFluidsResponse>, Status> {
+        let request = request.into_inner();
+        let text = normalize(&request.text);
+        let fluids = self
+            .engines
+            .catalogue()
+            .fluids()
+            .iter()
+            .filter(|f| {
+                request.safety_classes.is_empty()
+                    || request.safety_classes.iter().any(|&c| convert::safety_class_matches(f, c))
+            })
+            .filter(|f| {
+                text.is_empty()
+                    || [Some(&f.id), Some(&f.name), f.ashrae_number.as_ref(), f.chemical_name.as_ref()]
+                        .into_iter()
+                        .flatten()
+                        .chain(f.aliases.iter())
+                        .any(|n| normalize(n).contains(&text))
+            })
+            .map(convert::summary)
+            .collect();
+        Ok(Response::new(pb::ListFluidsResponse { fluids }))
     }
 
     async fn describe_fluid(
         &self,
-        request: Request<DescribeFluidRequest>,
-    ) -> Result<Response<DescribeFluidResponse>, Status> {
-        record_fluid_name(&request.get_ref().fluid);
-        Err(not_wired())
+        request: Request<pb::DescribeFluidRequest>,
+    ) -> Result<Response<pb::DescribeFluidResponse>, Status> {
+        let name = &request.get_ref().fluid;
+        record_fluid_name(name);
+        if name.trim().is_empty() {
+            return Err(ServiceError::field("fluid", "missing: give a catalogue fluid name").into());
+        }
+        let record = self.engines.catalogue().get(name).map_err(ServiceError::from)?;
+        Ok(Response::new(pb::DescribeFluidResponse { fluid: Some(convert::description(record)) }))
     }
 
     async fn get_saturation(
         &self,
-        request: Request<GetSaturationRequest>,
-    ) -> Result<Response<GetSaturationResponse>, Status> {
-        record_fluid(request.get_ref().fluid.as_ref());
-        Err(not_wired())
+        request: Request<pb::GetSaturationRequest>,
+    ) -> Result<Response<pb::GetSaturationResponse>, Status> {
+        let request = request.into_inner();
+        record_fluid(request.fluid.as_ref());
+        let name = convert::fluid_name(request.fluid.as_ref())?;
+        let model = convert::model_from_proto(request.equation_of_state)?;
+        let reference = convert::reference_from_proto(request.reference_state)?;
+        let chosen = self.engines.choose(name, model, reference)?;
+        use pb::get_saturation_request::Condition;
+        let sat = match request.condition {
+            Some(Condition::TemperatureK(t)) => {
+                chosen.eos.saturation_at_temperature(finite("temperature_k", t)?)
+            }
+            Some(Condition::PressurePa(p)) => {
+                chosen.eos.saturation_at_pressure(finite("pressure_pa", p)?)
+            }
+            None => {
+                return Err(ServiceError::field(
+                    "condition",
+                    "missing: give temperature_k or pressure_pa",
+                )
+                .into());
+            }
+        }
+        .map_err(ServiceError::from)?;
+        Ok(Response::new(convert::saturation(&sat, &chosen)))
     }
 
     async fn get_state(
         &self,
-        request: Request<GetStateRequest>,
-    ) -> Result<Response<GetStateResponse>, Status> {
-        record_fluid(request.get_ref().fluid.as_ref());
-        Err(not_wired())
+        request: Request<pb::GetStateRequest>,
+    ) -> Result<Response<pb::GetStateResponse>, Status> {
+        let request = request.into_inner();
+        record_fluid(request.fluid.as_ref());
+        let name = convert::fluid_name(request.fluid.as_ref())?;
+        let model = convert::model_from_proto(request.equation_of_state)?;
+        let reference = convert::reference_from_proto(request.reference_state)?;
+        let t = finite("temperature_k", request.temperature_k)?;
+        let p = finite("pressure_pa", request.pressure_pa)?;
+        let chosen = self.engines.choose(name, model, reference)?;
+        let state = chosen.eos.state(t, p).map_err(ServiceError::from)?;
+        Ok(Response::new(convert::state(&state, &chosen)))
     }
 
     async fn get_state_batch(
         &self,
-        request: Request<GetStateBatchRequest>,
-    ) -> Result<Response<GetStateBatchResponse>, Status> {
-        record_fluid(request.get_ref().fluid.as_ref());
-        Err(not_wired())
+        request: Request<pb::GetStateBatchRequest>,
+    ) -> Result<Response<pb::GetStateBatchResponse>, Status> {
+        let request = request.into_inner();
+        record_fluid(request.fluid.as_ref());
+        let limit = self.max_batch_length;
+        let response = if request.temperatures_k.len() >= BLOCKING_BATCH {
+            let engines = Arc::clone(&self.engines);
+            tokio::task::spawn_blocking(move || state_batch(&engines, &request, limit))
+                .await
+                .map_err(|e| Status::internal(format!("batch worker failed: {e}")))?
+        } else {
+            state_batch(&self.engines, &request, limit)
+        };
+        Ok(Response::new(response?))
     }
 }
