@@ -26,7 +26,7 @@ pub struct ReferencePoint {
     /// Saturated-liquid density, kg/m^3, where known.
     pub liquid_density_kg_per_m3: Option<f64>,
     /// Enthalpy of vaporization, J/mol, where known. Points below 0.95 Tc that carry it
-    /// join the fit with the same weight as their vapor pressure.
+    /// join the fit with weight 0.05 relative to their vapor pressure.
     pub enthalpy_of_vaporization_j_per_mol: Option<f64>,
 }
 
