@@ -12,6 +12,12 @@ use crate::status::ServiceError;
 /// The fluid name of a selector; mixtures are not built yet.
 pub fn fluid_name(selector: Option<&pb::FluidSelector>) -> Result<&str, ServiceError> {
     match selector.and_then(|s| s.choice.as_ref()) {
+        Some(pb::fluid_selector::Choice::Fluid(name)) if name.trim().is_empty() => {
+            Err(ServiceError::field(
+                "fluid",
+                "empty: give a catalogue fluid name, e.g. \"R-134a\"",
+            ))
+        }
         Some(pb::fluid_selector::Choice::Fluid(name)) => Ok(name),
         Some(pb::fluid_selector::Choice::Mixture(_)) => Err(ServiceError::Unimplemented(
             "mixtures are not available yet: ask for a pure catalogue fluid by name".into(),
@@ -88,7 +94,9 @@ pub fn phase_to_proto(phase: Phase) -> pb::Phase {
 }
 
 fn safety_class_to_proto(class: Option<SafetyClass>) -> pb::SafetyClass {
-    let Some(class) = class else { return pb::SafetyClass::NotClassified };
+    let Some(class) = class else {
+        return pb::SafetyClass::NotClassified;
+    };
     match class.as_str() {
         "A1" => pb::SafetyClass::A1,
         "A2L" => pb::SafetyClass::A2l,
@@ -125,11 +133,13 @@ fn accuracy_to_proto(record: Option<&AccuracyRecord>, model: Model) -> Option<pb
     let hvap = record.enthalpy_of_vaporization.as_ref();
     Some(pb::ModelAccuracy {
         equation_of_state: model_to_proto(model) as i32,
-        saturation_pressure_mean_abs_deviation_percent: psat.map_or(f64::NAN, |d| d.mean_abs_percent),
+        saturation_pressure_mean_abs_deviation_percent: psat
+            .map_or(f64::NAN, |d| d.mean_abs_percent),
         saturation_pressure_max_abs_deviation_percent: psat.map_or(f64::NAN, |d| d.max_abs_percent),
         enthalpy_of_vaporization_mean_abs_deviation_percent: hvap
             .map_or(f64::NAN, |d| d.mean_abs_percent),
-        enthalpy_of_vaporization_max_abs_deviation_percent: hvap.map_or(f64::NAN, |d| d.max_abs_percent),
+        enthalpy_of_vaporization_max_abs_deviation_percent: hvap
+            .map_or(f64::NAN, |d| d.max_abs_percent),
         checked_min_temperature_k: psat.map_or(f64::NAN, |d| d.t_min_k),
         checked_max_temperature_k: psat.map_or(f64::NAN, |d| d.t_max_k),
         checked_point_count: psat.map_or(0, |d| d.points as u32),
@@ -154,7 +164,10 @@ pub fn basis(chosen: &Chosen<'_>) -> pb::ResultBasis {
 
 /// The fluid's caution with the advisory notice every answer carries.
 fn caution(fluid: &FluidRecord) -> String {
-    let class = fluid.safety_class.map(|c| format!("Safety class {}. ", c.as_str())).unwrap_or_default();
+    let class = fluid
+        .safety_class
+        .map(|c| format!("Safety class {}. ", c.as_str()))
+        .unwrap_or_default();
     format!(
         "{class}{} Results are advisory; follow local codes and licensed practice.",
         fluid.caution
@@ -259,14 +272,22 @@ pub fn description(record: &FluidRecord) -> pb::FluidDescription {
         .map(|&model| {
             let fitted = c.fit_for(model).is_some();
             let (alpha, detail) = match (fitted, model) {
-                (true, _) => (pb::AlphaFunction::FluidFit, format!(
-                    "Mathias-Copeman (1983) fitted to {}",
-                    record.fit_record_for(model).map_or("reference data", |f| f.data_citation.as_str())
-                )),
-                (false, Model::VanDerWaals) => (pb::AlphaFunction::Constant, "alpha = 1".to_string()),
-                (false, Model::RedlichKwong) => {
-                    (pb::AlphaFunction::InverseSquareRoot, "alpha = Tr^-0.5".to_string())
+                (true, _) => (
+                    pb::AlphaFunction::FluidFit,
+                    format!(
+                        "Mathias-Copeman (1983) fitted to {}",
+                        record
+                            .fit_record_for(model)
+                            .map_or("reference data", |f| f.data_citation.as_str())
+                    ),
+                ),
+                (false, Model::VanDerWaals) => {
+                    (pb::AlphaFunction::Constant, "alpha = 1".to_string())
                 }
+                (false, Model::RedlichKwong) => (
+                    pb::AlphaFunction::InverseSquareRoot,
+                    "alpha = Tr^-0.5".to_string(),
+                ),
                 (false, _) => (
                     pb::AlphaFunction::AcentricCorrelation,
                     "the model's generalized alpha from the acentric factor".to_string(),
@@ -301,7 +322,11 @@ pub fn description(record: &FluidRecord) -> pb::FluidDescription {
         kind: pb::FluidKind::Pure as i32,
         blend_components: Vec::new(),
         models,
-        sources: record.citations.iter().map(|(field, cite)| format!("{field}: {cite}")).collect(),
+        sources: record
+            .citations
+            .iter()
+            .map(|(field, cite)| format!("{field}: {cite}"))
+            .collect(),
         user_defined: record.user_supplied,
     }
 }

@@ -39,27 +39,40 @@ pub struct Chosen<'a> {
     pub reference: Option<ReferenceState>,
 }
 
-const REFERENCES: [ReferenceState; 2] =
-    [ReferenceState::LiquidAtZeroCelsius, ReferenceState::LiquidAtNormalBoilingPoint];
+const REFERENCES: [ReferenceState; 2] = [
+    ReferenceState::LiquidAtZeroCelsius,
+    ReferenceState::LiquidAtNormalBoilingPoint,
+];
 
 impl Engines {
     /// Prepares every fluid of `catalogue` under every model and reference state.
-    pub fn prepare(catalogue: Catalogue, default_model: Model, default_reference: ReferenceState) -> Engines {
+    pub fn prepare(
+        catalogue: Catalogue,
+        default_model: Model,
+        default_reference: ReferenceState,
+    ) -> Engines {
         let mut fluids = HashMap::new();
         for record in catalogue.fluids() {
             let mut by_model = HashMap::new();
             for model in Model::ALL {
                 for reference in REFERENCES {
-                    let eos = record.eos(model).map(|plain| match plain.clone().with_reference(reference) {
-                        Ok(with_reference) => with_reference,
-                        Err(_) => plain,
+                    let eos = record.eos(model).map(|plain| {
+                        match plain.clone().with_reference(reference) {
+                            Ok(with_reference) => with_reference,
+                            Err(_) => plain,
+                        }
                     });
                     by_model.insert((model, reference), eos);
                 }
             }
             fluids.insert(record.id.clone(), FluidEngines { by_model });
         }
-        Engines { catalogue, fluids, default_model, default_reference }
+        Engines {
+            catalogue,
+            fluids,
+            default_model,
+            default_reference,
+        }
     }
 
     /// The catalogue.
@@ -95,13 +108,20 @@ impl Engines {
             None if !zero_celsius_applies => ReferenceState::LiquidAtNormalBoilingPoint,
             None => self.default_reference,
         };
-        let engines = self.fluids.get(&fluid.id).expect("every catalogue fluid is prepared");
+        let engines = self
+            .fluids
+            .get(&fluid.id)
+            .expect("every catalogue fluid is prepared");
         let eos = engines
             .by_model
             .get(&(model, reference))
             .expect("every model and reference is prepared")
             .as_ref()
             .map_err(|e| ServiceError::Engine(e.clone()))?;
-        Ok(Chosen { fluid, eos, reference: eos.reference_state() })
+        Ok(Chosen {
+            fluid,
+            eos,
+            reference: eos.reference_state(),
+        })
     }
 }

@@ -99,7 +99,10 @@ pub async fn run(
         .add_service(health_service)
         .add_optional_service(reflection_service)
         .add_service(phase_service)
-        .serve_with_incoming_shutdown(TcpIncoming::from(listener), drain_on(shutdown, health))
+        .serve_with_incoming_shutdown(
+            TcpIncoming::from(listener).with_nodelay(Some(true)),
+            drain_on(shutdown, health),
+        )
         .await
         .context("the gRPC server failed")?;
     tracing::info!("binodal server stopped");
@@ -124,7 +127,9 @@ fn prepare_engines(settings: &Settings) -> anyhow::Result<Engines> {
         EquationOfStateChoice::PengRobinson1978 => binodal_eos::Model::PengRobinson1978,
     };
     let reference = match settings.default_reference_state {
-        ReferenceStateChoice::LiquidAtZeroCelsius => binodal_eos::ReferenceState::LiquidAtZeroCelsius,
+        ReferenceStateChoice::LiquidAtZeroCelsius => {
+            binodal_eos::ReferenceState::LiquidAtZeroCelsius
+        }
         ReferenceStateChoice::LiquidAtNormalBoilingPoint => {
             binodal_eos::ReferenceState::LiquidAtNormalBoilingPoint
         }

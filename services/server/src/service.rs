@@ -28,7 +28,10 @@ pub struct PhaseApi {
 impl PhaseApi {
     /// A service over prepared engines.
     pub fn new(engines: Arc<Engines>, max_batch_length: usize) -> PhaseApi {
-        PhaseApi { engines, max_batch_length }
+        PhaseApi {
+            engines,
+            max_batch_length,
+        }
     }
 }
 
@@ -37,7 +40,10 @@ fn finite(field: &str, value: f64) -> Result<f64, ServiceError> {
     if value.is_finite() {
         Ok(value)
     } else {
-        Err(ServiceError::field(field, format!("{value} is not a finite number")))
+        Err(ServiceError::field(
+            field,
+            format!("{value} is not a finite number"),
+        ))
     }
 }
 
@@ -51,18 +57,28 @@ fn state_batch(
     let reference = convert::reference_from_proto(request.reference_state)?;
     let (ts, ps) = (&request.temperatures_k, &request.pressures_pa);
     if ts.is_empty() {
-        return Err(ServiceError::field("temperatures_k", "empty: give at least one point"));
+        return Err(ServiceError::field(
+            "temperatures_k",
+            "empty: give at least one point",
+        ));
     }
     if ts.len() != ps.len() {
         return Err(ServiceError::field(
             "pressures_pa",
-            format!("has {} entries but temperatures_k has {}; they must match", ps.len(), ts.len()),
+            format!(
+                "has {} entries but temperatures_k has {}; they must match",
+                ps.len(),
+                ts.len()
+            ),
         ));
     }
     if ts.len() > max_batch_length {
         return Err(ServiceError::field(
             "temperatures_k",
-            format!("{} points exceed the server's limit of {max_batch_length} per batch", ts.len()),
+            format!(
+                "{} points exceed the server's limit of {max_batch_length} per batch",
+                ts.len()
+            ),
         ));
     }
     let chosen = engines.choose(name, model, reference)?;
@@ -98,7 +114,8 @@ fn state_batch(
                 let dp = s.margins.pressure_margin_pa;
                 out.phases.push(convert::phase_to_proto(s.phase) as i32);
                 out.densities_kg_per_m3.push(value(props.density_kg_per_m3));
-                out.compressibility_factors.push(value(props.compressibility));
+                out.compressibility_factors
+                    .push(value(props.compressibility));
                 let h = props.enthalpy_j_per_mol.map_or(nan, value);
                 let s_mol = props.entropy_j_per_mol_k.map_or(nan, value);
                 out.enthalpies_j_per_mol.push(h);
@@ -118,9 +135,14 @@ fn state_batch(
                 let code = match engine_code(&e) {
                     tonic::Code::OutOfRange => pb::PointErrorCode::OutOfRange,
                     tonic::Code::Internal => pb::PointErrorCode::NotConverged,
-                    _ => pb::PointErrorCode::InvalidInput,
+                    tonic::Code::InvalidArgument => pb::PointErrorCode::InvalidInput,
+                    _ => pb::PointErrorCode::Internal,
                 };
-                out.errors.push(pb::PointError { index: i as u32, code: code as i32, message: e.to_string() });
+                out.errors.push(pb::PointError {
+                    index: i as u32,
+                    code: code as i32,
+                    message: e.to_string(),
+                });
                 out.phases.push(pb::Phase::Unspecified as i32);
                 for v in [
                     &mut out.densities_kg_per_m3,
@@ -161,18 +183,29 @@ impl PhaseService for PhaseApi {
             .iter()
             .filter(|f| {
                 request.safety_classes.is_empty()
-                    || request.safety_classes.iter().any(|&c| convert::safety_class_matches(f, c))
+                    || request
+                        .safety_classes
+                        .iter()
+                        .any(|&c| convert::safety_class_matches(f, c))
             })
             .filter(|f| {
                 text.is_empty()
-                    || [Some(&f.id), Some(&f.name), f.ashrae_number.as_ref(), f.chemical_name.as_ref()]
-                        .into_iter()
-                        .flatten()
-                        .chain(f.aliases.iter())
-                        .any(|n| normalize(n).contains(&text))
+                    || [
+                        Some(&f.id),
+                        Some(&f.name),
+                        f.ashrae_number.as_ref(),
+                        f.chemical_name.as_ref(),
+                        f.formula.as_ref(),
+                    ]
+                    .into_iter()
+                    .flatten()
+                    .chain(f.aliases.iter())
+                    .any(|n| normalize(n).contains(&text))
             })
             .map(convert::summary)
-            .collect();
+            .collect::<Vec<_>>();
+        let mut fluids = fluids;
+        fluids.sort_by(|a, b| a.fluid_id.cmp(&b.fluid_id));
         Ok(Response::new(pb::ListFluidsResponse { fluids }))
     }
 
@@ -183,10 +216,18 @@ impl PhaseService for PhaseApi {
         let name = &request.get_ref().fluid;
         record_fluid_name(name);
         if name.trim().is_empty() {
-            return Err(ServiceError::field("fluid", "missing: give a catalogue fluid name").into());
+            return Err(
+                ServiceError::field("fluid", "missing: give a catalogue fluid name").into(),
+            );
         }
-        let record = self.engines.catalogue().get(name).map_err(ServiceError::from)?;
-        Ok(Response::new(pb::DescribeFluidResponse { fluid: Some(convert::description(record)) }))
+        let record = self
+            .engines
+            .catalogue()
+            .get(name)
+            .map_err(ServiceError::from)?;
+        Ok(Response::new(pb::DescribeFluidResponse {
+            fluid: Some(convert::description(record)),
+        }))
     }
 
     async fn get_saturation(
@@ -201,9 +242,9 @@ impl PhaseService for PhaseApi {
         let chosen = self.engines.choose(name, model, reference)?;
         use pb::get_saturation_request::Condition;
         let sat = match request.condition {
-            Some(Condition::TemperatureK(t)) => {
-                chosen.eos.saturation_at_temperature(finite("temperature_k", t)?)
-            }
+            Some(Condition::TemperatureK(t)) => chosen
+                .eos
+                .saturation_at_temperature(finite("temperature_k", t)?),
             Some(Condition::PressurePa(p)) => {
                 chosen.eos.saturation_at_pressure(finite("pressure_pa", p)?)
             }

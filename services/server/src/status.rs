@@ -36,7 +36,10 @@ pub enum ServiceError {
 impl ServiceError {
     /// A missing or invalid request field.
     pub fn field(field: impl Into<String>, message: impl Into<String>) -> ServiceError {
-        ServiceError::InvalidField { field: field.into(), message: message.into() }
+        ServiceError::InvalidField {
+            field: field.into(),
+            message: message.into(),
+        }
     }
 }
 

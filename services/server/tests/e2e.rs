@@ -4,8 +4,11 @@
 //! - health: the phase service reports SERVING;
 //! - reflection: lists the phase service, and can be switched off;
 //! - shutdown: health turns NOT_SERVING, then `run` returns;
-//! - limits: the message size limit from the settings applies to the phase service.
+//! - limits: the message size limit from the settings applies to the phase service;
+//! - [`cases`]: every phase RPC against the engine and published values, a table of bad
+//!   requests, and a generated Python client (tests/python/interop_test.py).
 
+mod cases;
 mod util;
 
 use binodal_proto::v1::phase_service_client::PhaseServiceClient;
@@ -175,7 +178,10 @@ async fn message_size_limit_comes_from_the_settings() {
     );
 
     // 300 points (4 800 bytes in, about 28 000 bytes out) pass the limit both ways.
-    let answer = client.get_state_batch(batch_of(300)).await.expect("within the limit");
+    let answer = client
+        .get_state_batch(batch_of(300))
+        .await
+        .expect("within the limit");
     assert_eq!(answer.into_inner().phases.len(), 300);
 
     server.stop().await;
