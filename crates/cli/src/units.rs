@@ -865,6 +865,8 @@ pub enum Quantity {
     TemperatureDifference,
     /// Absolute pressure, Pa.
     Pressure,
+    /// Pressure difference (a margin or a step: neither gauge nor absolute), Pa.
+    PressureDifference,
     /// Specific energy (enthalpy, internal energy, latent heat), J/kg.
     SpecificEnergy,
     /// Specific entropy or specific heat capacity, J/(kg K).
@@ -889,6 +891,9 @@ pub fn convert(quantity: Quantity, si_value: f64, system: UnitSystem) -> (f64, &
         (Q::Pressure, S::Si) => (si_value, "Pa (abs)"),
         (Q::Pressure, S::Metric) => (si_value / BAR_PA, "bar (abs)"),
         (Q::Pressure, S::Us) => (si_value / PSI_PA, "psia"),
+        (Q::PressureDifference, S::Si) => (si_value, "Pa"),
+        (Q::PressureDifference, S::Metric) => (si_value / BAR_PA, "bar"),
+        (Q::PressureDifference, S::Us) => (si_value / PSI_PA, "psi"),
         (Q::SpecificEnergy, S::Si) => (si_value, "J/kg"),
         (Q::SpecificEnergy, S::Metric) => (si_value / 1.0e3, "kJ/kg"),
         (Q::SpecificEnergy, S::Us) => (si_value / BTU_PER_LB_IN_J_PER_KG, "Btu/lb"),
@@ -914,9 +919,9 @@ pub fn decimals(quantity: Quantity, system: UnitSystem) -> usize {
     use UnitSystem as S;
     match (quantity, system) {
         (Q::Temperature | Q::TemperatureDifference, _) => 2,
-        (Q::Pressure, S::Si) => 0,
-        (Q::Pressure, S::Metric) => 4,
-        (Q::Pressure, S::Us) => 3,
+        (Q::Pressure | Q::PressureDifference, S::Si) => 0,
+        (Q::Pressure | Q::PressureDifference, S::Metric) => 4,
+        (Q::Pressure | Q::PressureDifference, S::Us) => 3,
         (Q::SpecificEnergy, S::Si) => 0,
         (Q::SpecificEnergy, S::Metric | S::Us) => 2,
         (Q::SpecificEntropy, S::Si) => 2,
@@ -1645,6 +1650,23 @@ mod tests {
                 "NIST SP 811 B.9 atm, bar",
             ),
             (Q::Pressure, 101_325.0, Si, 101_325.0, "Pa (abs)", "SI"),
+            (
+                Q::PressureDifference,
+                PSI_LITERAL,
+                Us,
+                1.0,
+                "psi",
+                "NIST SP 811 B.9 psi",
+            ),
+            (
+                Q::PressureDifference,
+                50_000.0,
+                Metric,
+                0.5,
+                "bar",
+                "NIST SP 811 B.9 bar",
+            ),
+            (Q::PressureDifference, 1_500.0, Si, 1_500.0, "Pa", "SI"),
             (
                 Q::SpecificEnergy,
                 2_326.0,

@@ -1,0 +1,166 @@
+//! The connection to the binodal service and the wording of its errors.
+
+use std::time::Duration;
+
+use binodal_proto::v1::phase_service_client::PhaseServiceClient;
+use binodal_proto::v1::{DescribeFluidRequest, FluidDescription};
+use tonic::transport::{Channel, Endpoint};
+use tonic::{Code, Status};
+
+/// Longest wait for the TCP/HTTP2 connection.
+pub const CONNECT_TIMEOUT: Duration = Duration::from_secs(5);
+/// Longest wait for one call's answer.
+pub const CALL_TIMEOUT: Duration = Duration::from_secs(30);
+
+/// Errors talking to the service, worded for the person at the terminal.
+#[derive(Debug, thiserror::Error)]
+pub enum ServiceError {
+    /// The address is not an `http://host:port` URL.
+    #[error(
+        "server address `{url}` is not usable: {reason}; write it as http://HOST:PORT, e.g. http://127.0.0.1:50051"
+    )]
+    BadAddress {
+        /// The address as given.
+        url: String,
+        /// What is wrong with it.
+        reason: String,
+    },
+    /// Nothing answered at the address.
+    #[error(
+        "cannot reach the binodal server at {url}; is the service running there? (set --server or BINODAL_SERVER)"
+    )]
+    Unreachable {
+        /// The address tried.
+        url: String,
+        /// The transport's explanation.
+        #[source]
+        source: Box<dyn std::error::Error + Send + Sync>,
+    },
+    /// The server did not answer in time.
+    #[error("the binodal server at {url} did not answer within {} s", CALL_TIMEOUT.as_secs())]
+    TimedOut {
+        /// The address tried.
+        url: String,
+    },
+    /// The fluid name is unknown; the message carries the server's suggestions.
+    #[error("{message} (list the fluids with `binodal fluids --search TEXT`)")]
+    UnknownFluid {
+        /// The server's message.
+        message: String,
+    },
+    /// The server refused a value in the request.
+    #[error("the server refused the request: {message}")]
+    Refused {
+        /// The server's message.
+        message: String,
+    },
+    /// The server does not offer this yet.
+    #[error("the binodal server at {url} does not offer this yet: {message}")]
+    NotOffered {
+        /// The address tried.
+        url: String,
+        /// The server's message.
+        message: String,
+    },
+    /// Any other failure reported by the server.
+    #[error("the binodal server at {url} failed ({code:?}): {message}")]
+    Failed {
+        /// The address tried.
+        url: String,
+        /// The gRPC status code.
+        code: Code,
+        /// The server's message.
+        message: String,
+    },
+}
+
+/// A connected channel and the address it was opened to.
+#[derive(Debug, Clone)]
+pub struct Service {
+    url: String,
+    channel: Channel,
+}
+
+impl Service {
+    /// Opens a connection to `url` (`http://host:port`), waiting at most [`CONNECT_TIMEOUT`].
+    pub async fn connect(url: &str) -> Result<Service, ServiceError> {
+        let bad = |reason: &str| ServiceError::BadAddress {
+            url: url.to_string(),
+            reason: reason.to_string(),
+        };
+        if url.starts_with("https://") {
+            return Err(bad(
+                "the service does not offer TLS yet, so only http:// addresses work",
+            ));
+        }
+        if !url.starts_with("http://") {
+            return Err(bad("it must start with http://"));
+        }
+        let endpoint = Endpoint::from_shared(url.to_string())
+            .map_err(|e| bad(&e.to_string()))?
+            .connect_timeout(CONNECT_TIMEOUT)
+            .timeout(CALL_TIMEOUT);
+        let channel = endpoint
+            .connect()
+            .await
+            .map_err(|e| ServiceError::Unreachable {
+                url: url.to_string(),
+                source: Box::new(e),
+            })?;
+        Ok(Service {
+            url: url.to_string(),
+            channel,
+        })
+    }
+
+    /// The address this service was reached at.
+    pub fn url(&self) -> &str {
+        &self.url
+    }
+
+    /// The channel, for other gRPC clients (health).
+    pub fn channel(&self) -> Channel {
+        self.channel.clone()
+    }
+
+    /// A phase-service client on this connection.
+    pub fn phase(&self) -> PhaseServiceClient<Channel> {
+        PhaseServiceClient::new(self.channel.clone())
+    }
+
+    /// Words a failed call's status for people.
+    pub fn error(&self, status: Status) -> ServiceError {
+        let url = self.url.clone();
+        let message = status.message().to_string();
+        match status.code() {
+            Code::Unavailable => ServiceError::Unreachable {
+                url,
+                source: Box::new(status),
+            },
+            Code::DeadlineExceeded | Code::Cancelled => ServiceError::TimedOut { url },
+            Code::NotFound => ServiceError::UnknownFluid { message },
+            Code::InvalidArgument | Code::OutOfRange | Code::FailedPrecondition => {
+                ServiceError::Refused { message }
+            }
+            Code::Unimplemented => ServiceError::NotOffered { url, message },
+            code => ServiceError::Failed { url, code, message },
+        }
+    }
+
+    /// The catalogue entry of `name`; an unknown name fails with the server's suggestions.
+    pub async fn describe(&self, name: &str) -> Result<FluidDescription, ServiceError> {
+        let response = self
+            .phase()
+            .describe_fluid(DescribeFluidRequest {
+                fluid: name.to_string(),
+            })
+            .await
+            .map_err(|status| self.error(status))?
+            .into_inner();
+        response.fluid.ok_or_else(|| ServiceError::Failed {
+            url: self.url.clone(),
+            code: Code::Internal,
+            message: "the answer to DescribeFluid has no fluid".to_string(),
+        })
+    }
+}
