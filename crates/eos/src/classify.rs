@@ -30,6 +30,8 @@ pub enum Phase {
     GasAboveCriticalTemperature,
     /// In the estimated solid region (see the module documentation).
     SolidEstimated,
+    /// A mixture between its bubble and dew points, split into liquid and vapor.
+    TwoPhase,
 }
 
 impl Phase {
@@ -42,6 +44,7 @@ impl Phase {
             Phase::SupercriticalFluid => "supercritical-fluid",
             Phase::GasAboveCriticalTemperature => "gas-above-critical-temperature",
             Phase::SolidEstimated => "solid-estimated",
+            Phase::TwoPhase => "two-phase",
         }
     }
 }

@@ -251,6 +251,14 @@ impl PureEos {
         self.ideal.as_ref().is_some_and(|c| c.covers(t))
     }
 
+    /// Ideal-gas `(h, s at 101 325 Pa)` from 298.15 K to `t`, J/mol and J/(mol K), where the
+    /// fluid has ideal-gas data (used by mixtures).
+    pub(crate) fn ideal_gas_terms(&self, t: f64) -> Option<(f64, f64)> {
+        self.ideal.as_ref().map(|c| {
+            (R * c.enthalpy_over_r(T_IDEAL_ORIGIN, t), R * c.entropy_over_r(T_IDEAL_ORIGIN, t))
+        })
+    }
+
     /// Co-volume b, m^3/mol.
     pub fn co_volume(&self) -> f64 {
         self.b

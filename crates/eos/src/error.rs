@@ -52,6 +52,16 @@ pub enum ErrorKind {
         /// Unit of the values.
         unit: &'static str,
     },
+    /// A mixture has no bubble or dew point at this input: near or above its critical
+    /// region, or outside its two-phase envelope.
+    OutsideEnvelope {
+        /// Name of the input field.
+        field: &'static str,
+        /// The value given.
+        value: f64,
+        /// What is wrong and, where known, the valid range.
+        detail: String,
+    },
     /// A model name that the engine does not know.
     UnknownModel {
         /// The name given.
@@ -99,6 +109,7 @@ impl Error {
             | ErrorKind::NonPositive { field, .. }
             | ErrorKind::OutOfRange { field, .. }
             | ErrorKind::NearCritical { field, .. }
+            | ErrorKind::OutsideEnvelope { field, .. }
             | ErrorKind::InvalidParameter { field, .. } => Some(field),
             _ => None,
         }
@@ -122,6 +133,10 @@ impl Error {
             max,
             unit,
         })
+    }
+
+    pub(crate) fn outside_envelope(field: &'static str, value: f64, detail: impl Into<String>) -> Error {
+        Error::new(ErrorKind::OutsideEnvelope { field, value, detail: detail.into() })
     }
 
     pub(crate) fn no_convergence(what: &'static str, detail: impl Into<String>) -> Error {
@@ -169,6 +184,9 @@ impl fmt::Display for Error {
                  value {critical} {unit}) where the two saturated phases cannot be told apart; \
                  valid up to {limit} {unit}"
             ),
+            ErrorKind::OutsideEnvelope { field, value, detail } => {
+                write!(f, "{field} = {value}: {detail}")
+            }
             ErrorKind::UnknownModel { name } => write!(
                 f,
                 "unknown equation of state `{name}`; valid: {}",

@@ -38,6 +38,7 @@ mod eos;
 mod error;
 mod fit;
 mod fluid;
+mod mixture;
 mod model;
 mod saturation;
 
@@ -48,5 +49,9 @@ pub use eos::{PhaseProperties, PureEos, ReferenceState};
 pub use error::{Error, ErrorKind};
 pub use fit::{AlphaForm, Deviation, FitReport, ReferencePoint, fit_saturation};
 pub use fluid::{FluidConstants, GAS_CONSTANT, IdealGasCp, ModelFit};
+pub use mixture::{
+    BinaryBubblePoint, Flash, Mixture, MixturePhase, MixtureState, PhaseBoundaryPoint, fit_kij,
+    rachford_rice,
+};
 pub use model::{CubicConstants, Model};
 pub use saturation::{NEAR_CRITICAL_BAND, Saturation};

@@ -90,6 +90,7 @@ pub fn phase_to_proto(phase: Phase) -> pb::Phase {
         Phase::SupercriticalFluid => pb::Phase::SupercriticalFluid,
         Phase::GasAboveCriticalTemperature => pb::Phase::GasAboveCriticalTemperature,
         Phase::SolidEstimated => pb::Phase::SolidEstimated,
+        Phase::TwoPhase => pb::Phase::TwoPhase,
     }
 }
 

@@ -8,8 +8,10 @@
 //! - `phases`: classification and margins.
 //! - `errors`: bad input gives precise typed errors.
 //! - `properties`: property-based tests over random fluids and states.
+//! - `mixtures`: bubble and dew points, flash, the k_ij fit.
 
 mod accuracy;
+mod mixtures;
 mod errors;
 mod phases;
 mod properties;
