@@ -66,6 +66,7 @@
 //! practice.
 #![deny(missing_docs)]
 
+mod blend;
 mod error;
 pub mod generate;
 mod lookup;
@@ -73,6 +74,7 @@ mod parse;
 mod record;
 pub mod reference;
 
+pub use blend::BlendRecord;
 pub use error::{CatalogueError, LookupError, Problem};
 pub use lookup::normalize;
 pub use record::{
@@ -113,6 +115,7 @@ pub const ACCURACY_TOML: &str = include_str!("../data/accuracy.toml");
 pub struct Catalogue {
     fluids: Vec<FluidRecord>,
     index: NameIndex,
+    blends: Vec<BlendRecord>,
 }
 
 impl Catalogue {
@@ -163,7 +166,7 @@ impl Catalogue {
         }
         let mut fluids = self.fluids.clone();
         fluids.extend(parsed.records);
-        Ok(Catalogue { fluids, index })
+        Ok(Catalogue { fluids, index, blends: self.blends.clone() })
     }
 
     /// The fluid known by `name`: its id, display name, ASHRAE number, chemical name, CAS
@@ -181,6 +184,25 @@ impl Catalogue {
                 suggestions: self.index.suggestions(name, 3),
             }),
         }
+    }
+
+    /// Every blend (`data/blends.toml`).
+    pub fn blends(&self) -> &[BlendRecord] {
+        &self.blends
+    }
+
+    /// The blend known by `name` (id, display name, ASHRAE number or alias).
+    pub fn blend(&self, name: &str) -> Option<&BlendRecord> {
+        self.blends.iter().find(|b| b.is_named(name))
+    }
+
+    /// The components of a blend as catalogue records with their mass fractions.
+    pub fn blend_components(&self, blend: &BlendRecord) -> Vec<(&FluidRecord, f64)> {
+        blend
+            .components
+            .iter()
+            .map(|(id, w)| (self.get(id).expect("blend components are checked on load"), *w))
+            .collect()
     }
 
     /// Every fluid: the built-in ones in catalogue order, then user fluids in file order.
@@ -278,7 +300,11 @@ fn load_builtin() -> Catalogue {
             panic!("built-in catalogue: name clash: {p}");
         }
     }
-    Catalogue { fluids, index }
+    let blends = blend::parse(include_str!("../data/blends.toml"), |id| {
+        fluids.iter().any(|f| f.id == id)
+    })
+    .unwrap_or_else(|e| panic!("data/blends.toml: {e}"));
+    Catalogue { fluids, index, blends }
 }
 
 #[cfg(test)]

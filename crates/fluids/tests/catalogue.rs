@@ -3,6 +3,8 @@
 
 #[path = "catalogue/accuracy.rs"]
 mod accuracy;
+#[path = "catalogue/blends.rs"]
+mod blends;
 #[path = "catalogue/consistency.rs"]
 mod consistency;
 #[path = "catalogue/names.rs"]
