@@ -7,6 +7,7 @@
 //! equation with constant `dH_fus / dV_fus`, `P = Ptp + dH_fus/dV_fus ln(T/Ttp)`.
 //! Results in or near the solid region are flagged as estimated.
 
+use crate::curve::SolvePath;
 use crate::eos::{PhaseProperties, PureEos};
 use crate::error::{Error, positive};
 use crate::fluid::GAS_CONSTANT as R;
@@ -96,6 +97,10 @@ pub struct State {
     pub ideal_gas_extrapolated: bool,
     /// The model that produced this result.
     pub model: Model,
+    /// [`SolvePath::Curve`] when the saturation pressure and temperature of the margins came
+    /// from the engine's precomputed curve; [`SolvePath::FullSolve`] when any came from the
+    /// full solver, or when the state needed none (above the saturation line's range).
+    pub path: SolvePath,
 }
 
 /// The estimated solid boundary, anchored at the model's own triple point.
@@ -214,20 +219,45 @@ impl PureEos {
             margins.freezing_margin_k = Some(t - solid.solid_temperature_k(p));
         }
 
-        // Saturation margins where the temperature and pressure are in the two-phase range.
+        // Saturation margins where the temperature and pressure are in the two-phase range:
+        // from the curve where the engine has one that covers them, else from the solver.
+        let (mut from_curve, mut from_solver) = (false, false);
         let t_top = self.saturation_temperature_limit_k();
         let in_sat_t = t >= self.minimum_temperature_k() && t <= t_top;
         if in_sat_t {
-            let psat = self.solve_saturation_pressure_unchecked(t)?.pressure;
+            let psat = match self.curve_pressure(t) {
+                Some(psat) => {
+                    from_curve = true;
+                    psat
+                }
+                None => {
+                    from_solver = true;
+                    self.solve_saturation_pressure_unchecked(t)?.pressure
+                }
+            };
             margins.saturation_pressure_pa = Some(psat);
             margins.pressure_margin_pa = Some(p - psat);
         }
         let (sp_lo, sp_hi) = self.saturation_pressure_range_pa();
         if p >= sp_lo && p <= sp_hi {
-            let tsat = self.saturation_temperature_unchecked(p)?;
+            let tsat = match self.curve_temperature(p) {
+                Some(tsat) => {
+                    from_curve = true;
+                    tsat
+                }
+                None => {
+                    from_solver = true;
+                    self.saturation_temperature_unchecked(p)?
+                }
+            };
             margins.saturation_temperature_k = Some(tsat);
             margins.temperature_margin_k = Some(t - tsat);
         }
+        let path = if from_curve && !from_solver {
+            SolvePath::Curve
+        } else {
+            SolvePath::FullSolve
+        };
 
         let phase = if self.solid.as_ref().is_some_and(|s| s.is_solid(t, p)) {
             estimated = true;
@@ -289,6 +319,7 @@ impl PureEos {
             near_critical: (tr - 1.0).abs() <= 0.02 && (pr - 1.0).abs() <= 0.10,
             ideal_gas_extrapolated: !self.ideal_gas_covers(t),
             model: self.model(),
+            path,
         })
     }
 }

@@ -91,6 +91,8 @@ pub struct PureEos {
     pub(crate) melting_dv_fraction: f64,
     pub(crate) saturation_range: (f64, f64),
     pub(crate) solid: Option<crate::classify::SolidBoundary>,
+    /// The precomputed saturation curve, once one is attached (see `crate::curve`).
+    pub(crate) curve: Option<std::sync::Arc<crate::curve::SaturationCurve>>,
 }
 
 impl PureEos {
@@ -136,6 +138,7 @@ impl PureEos {
             melting_dv_fraction: fluid.melting_volume_change_fraction.unwrap_or(0.10),
             saturation_range: (f64::NAN, f64::NAN),
             solid: None,
+            curve: None,
         };
         eos.saturation_range = eos.compute_saturation_range()?;
         eos.solid = crate::classify::SolidBoundary::estimate(&eos)?;

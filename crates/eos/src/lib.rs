@@ -14,6 +14,13 @@
 //!   [`PureEos::saturation_at_temperature`], [`PureEos::saturation_at_pressure`] and
 //!   [`PureEos::state`].
 //! - [`fit_saturation`]: fits alpha parameters and a volume shift to reference data.
+//! - [`Mixture`]: several fluids under one model with one-fluid mixing rules and `k_ij`:
+//!   bubble and dew points, glide, flash (Michelsen stability, Rachford-Rice), and the
+//!   phase of a mixture at (T, P) with margins to its bubble and dew points; [`fit_kij`]
+//!   fits an interaction parameter to bubble pressures.
+//! - [`SaturationCurve`]: a precomputed, verified saturation curve; an engine given one with
+//!   [`PureEos::with_saturation_curve`] reads it instead of solving, and every result says
+//!   which path produced it ([`SolvePath`]).
 //!
 //! The crate does no I/O and knows nothing of async runtimes or wire formats. Inputs are
 //! SI (K, Pa, mol); every failure is a typed [`Error`] naming the field and valid range.
@@ -34,6 +41,7 @@
 mod alpha;
 mod classify;
 mod cubic;
+mod curve;
 mod eos;
 mod error;
 mod fit;
@@ -45,6 +53,10 @@ mod saturation;
 pub use alpha::{Alpha, AlphaValue};
 pub use classify::{Margins, Phase, SATURATION_TOLERANCE, SolidBoundary, State};
 pub use cubic::{CubicRoots, solve_cubic};
+pub use curve::{
+    CURVE_BUILD_TARGET, CURVE_CRITICAL_BAND, CURVE_DEGREE, CURVE_TOLERANCE, CurveReport,
+    PhaseBoundary, PureSaturationLine, SaturationCurve, SolvePath, clenshaw,
+};
 pub use eos::{PhaseProperties, PureEos, ReferenceState};
 pub use error::{Error, ErrorKind};
 pub use fit::{AlphaForm, Deviation, FitReport, ReferencePoint, fit_saturation};

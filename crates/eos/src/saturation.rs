@@ -8,6 +8,7 @@
 //! (`dF/d ln P = Z_L - Z_V < 0`) from positive to negative. Its zero is the vapor pressure.
 
 use crate::eos::{PhaseProperties, PureEos};
+use crate::curve::SolvePath;
 use crate::error::{Error, ErrorKind};
 use crate::fluid::GAS_CONSTANT as R;
 use crate::model::Model;
@@ -38,6 +39,9 @@ pub struct Saturation {
     pub entropy_of_vaporization_j_per_mol_k: f64,
     /// The model that produced this result.
     pub model: Model,
+    /// Whether the saturation pressure (or temperature) came from the engine's precomputed
+    /// curve or from the full solver.
+    pub path: SolvePath,
 }
 
 /// The raw result of a vapor-pressure solve.
@@ -251,15 +255,26 @@ impl PureEos {
     }
 
     /// Vapor pressure at `temperature_k`, Pa, from the triple point (or 0.3 Tc) to the
-    /// near-critical band.
+    /// near-critical band: from the engine's saturation curve where it has one that covers
+    /// the temperature, else from the full solver.
     pub fn saturation_pressure(&self, temperature_k: f64) -> Result<f64, Error> {
         let t = self.check_saturation_temperature(temperature_k)?;
+        if let Some(p) = self.curve_pressure(t) {
+            return Ok(p);
+        }
         Ok(self.solve_saturation_pressure_unchecked(t)?.pressure)
     }
 
-    /// Both saturated phases at `temperature_k`.
+    /// Both saturated phases at `temperature_k`; `path` says whether the vapor pressure came
+    /// from the engine's saturation curve or the full solver.
     pub fn saturation_at_temperature(&self, temperature_k: f64) -> Result<Saturation, Error> {
         let t = self.check_saturation_temperature(temperature_k)?;
+        if let Some(sat) = self
+            .curve_pressure(t)
+            .and_then(|p| self.curve_saturation(t, p))
+        {
+            return Ok(sat);
+        }
         let sat = self.solve_saturation_pressure_unchecked(t)?;
         Ok(self.saturation_from_point(t, sat))
     }
@@ -276,6 +291,7 @@ impl PureEos {
             enthalpy_of_vaporization_j_per_mol: dh,
             entropy_of_vaporization_j_per_mol_k: dh / t,
             model: self.model(),
+            path: SolvePath::FullSolve,
         }
     }
 
@@ -348,16 +364,29 @@ impl PureEos {
         Ok(p)
     }
 
-    /// Saturation temperature at `pressure_pa`, K.
+    /// Saturation temperature at `pressure_pa`, K: from the engine's saturation curve where
+    /// it has one that covers the pressure, else from the full solver.
     pub fn saturation_temperature(&self, pressure_pa: f64) -> Result<f64, Error> {
         let p = self.check_saturation_pressure(pressure_pa)?;
+        if let Some(t) = self.curve_temperature(p) {
+            return Ok(t);
+        }
         self.saturation_temperature_unchecked(p)
     }
 
     /// Both saturated phases at `pressure_pa`. The returned pressure is the vapor pressure
-    /// at the solved temperature, equal to `pressure_pa` within about 1e-12 relative.
+    /// at the returned temperature (from the same path), equal to `pressure_pa` within about
+    /// 1e-12 relative on the full-solve path and within the curve's recorded inverse deviation
+    /// on the curve path.
     pub fn saturation_at_pressure(&self, pressure_pa: f64) -> Result<Saturation, Error> {
-        let t = self.saturation_temperature(pressure_pa)?;
+        let p = self.check_saturation_pressure(pressure_pa)?;
+        if let Some(sat) = self.curve_temperature(p).and_then(|t| {
+            self.curve_pressure(t)
+                .and_then(|p_t| self.curve_saturation(t, p_t))
+        }) {
+            return Ok(sat);
+        }
+        let t = self.saturation_temperature_unchecked(p)?;
         let sat = self.solve_saturation_pressure_unchecked(t)?;
         Ok(self.saturation_from_point(t, sat))
     }

@@ -6,11 +6,79 @@ use binodal_eos::{Model, Phase, PhaseProperties, ReferenceState, Saturation, Sta
 use binodal_fluids::{AccuracyRecord, FluidRecord, SafetyClass};
 use binodal_proto::v1 as pb;
 
-use crate::engines::Chosen;
+use crate::engines::{Chosen, MixtureChoice};
 use crate::status::ServiceError;
 
-/// The fluid name of a selector; mixtures are not built yet.
-pub fn fluid_name(selector: Option<&pb::FluidSelector>) -> Result<&str, ServiceError> {
+/// What a fluid selector asks for.
+#[derive(Debug)]
+pub enum FluidRequest<'a> {
+    /// A catalogue fluid or blend by name.
+    Name(&'a str),
+    /// A custom mixture: `(fluid name, fraction)`, fractions on a mass or mole basis, checked
+    /// and (if they did not sum to 1) normalised with a warning.
+    Mixture {
+        /// Components and fractions.
+        parts: Vec<(String, f64)>,
+        /// Whether the fractions are mass fractions.
+        mass_basis: bool,
+        /// Notes for the answer.
+        warnings: Vec<String>,
+    },
+}
+
+/// Relative tolerance within which mixture fractions count as summing to 1.
+const FRACTION_SUM_TOLERANCE: f64 = 1e-6;
+
+/// Reads and checks a fluid selector.
+pub fn fluid_request(selector: Option<&pb::FluidSelector>) -> Result<FluidRequest<'_>, ServiceError> {
+    if let Some(pb::fluid_selector::Choice::Mixture(mixture)) = selector.and_then(|s| s.choice.as_ref()) {
+        let mass_basis = match pb::FractionBasis::try_from(mixture.fraction_basis) {
+            Ok(pb::FractionBasis::Mass) => true,
+            Ok(pb::FractionBasis::Mole) => false,
+            _ => {
+                return Err(ServiceError::field(
+                    "fluid.mixture.fraction_basis",
+                    format!(
+                        "{} is not a basis: give FRACTION_BASIS_MOLE (1) or FRACTION_BASIS_MASS (2)",
+                        mixture.fraction_basis
+                    ),
+                ));
+            }
+        };
+        if mixture.components.is_empty() {
+            return Err(ServiceError::field("fluid.mixture.components", "empty: give at least one component"));
+        }
+        if mixture.components.len() > 20 {
+            return Err(ServiceError::field(
+                "fluid.mixture.components",
+                format!("{} components; at most 20", mixture.components.len()),
+            ));
+        }
+        let mut sum = 0.0;
+        for (i, c) in mixture.components.iter().enumerate() {
+            if !(c.fraction.is_finite() && c.fraction > 0.0) {
+                return Err(ServiceError::field(
+                    format!("fluid.mixture.components[{i}].fraction"),
+                    format!("{} must be a finite number above 0 and at most 1", c.fraction),
+                ));
+            }
+            if c.fluid.trim().is_empty() {
+                return Err(ServiceError::field(format!("fluid.mixture.components[{i}].fluid"), "empty name"));
+            }
+            sum += c.fraction;
+        }
+        let mut warnings = Vec::new();
+        if (sum - 1.0).abs() > FRACTION_SUM_TOLERANCE {
+            warnings.push(format!("mixture fractions summed to {sum}; they were normalised to sum to 1"));
+        }
+        let parts = mixture.components.iter().map(|c| (c.fluid.clone(), c.fraction / sum)).collect();
+        return Ok(FluidRequest::Mixture { parts, mass_basis, warnings });
+    }
+    fluid_name(selector).map(FluidRequest::Name)
+}
+
+/// The fluid name of a selector.
+fn fluid_name(selector: Option<&pb::FluidSelector>) -> Result<&str, ServiceError> {
     match selector.and_then(|s| s.choice.as_ref()) {
         Some(pb::fluid_selector::Choice::Fluid(name)) if name.trim().is_empty() => {
             Err(ServiceError::field(
@@ -19,9 +87,7 @@ pub fn fluid_name(selector: Option<&pb::FluidSelector>) -> Result<&str, ServiceE
             ))
         }
         Some(pb::fluid_selector::Choice::Fluid(name)) => Ok(name),
-        Some(pb::fluid_selector::Choice::Mixture(_)) => Err(ServiceError::Unimplemented(
-            "mixtures are not available yet: ask for a pure catalogue fluid by name".into(),
-        )),
+        Some(pb::fluid_selector::Choice::Mixture(_)) => unreachable!("handled by fluid_request"),
         None => Err(ServiceError::field(
             "fluid",
             "missing: give a catalogue fluid name, e.g. \"R-134a\" (ListFluids lists them)",
@@ -160,6 +226,7 @@ pub fn basis(chosen: &Chosen<'_>) -> pb::ResultBasis {
         reference_state: reference_to_proto(chosen.reference) as i32,
         expected_deviation: accuracy_to_proto(chosen.fluid.accuracy_for(model), model),
         caution: caution(chosen.fluid),
+        warnings: Vec::new(),
     }
 }
 
@@ -329,5 +396,195 @@ pub fn description(record: &FluidRecord) -> pb::FluidDescription {
             .map(|(field, cite)| format!("{field}: {cite}"))
             .collect(),
         user_defined: record.user_supplied,
+    }
+}
+
+fn fractions(choice: &MixtureChoice, x: &[f64]) -> Vec<pb::ComponentFraction> {
+    let comps = choice.mixture.components();
+    let mass_total: f64 = comps.iter().zip(x).map(|(c, xi)| xi * c.molar_mass_kg_per_mol()).sum();
+    choice
+        .components
+        .iter()
+        .zip(comps.iter().zip(x))
+        .map(|((record, _), (c, &xi))| pb::ComponentFraction {
+            fluid_id: record.id.clone(),
+            mole_fraction: xi,
+            mass_fraction: xi * c.molar_mass_kg_per_mol() / mass_total,
+        })
+        .collect()
+}
+
+/// The basis of a mixture answer. The expected deviation is the worst recorded
+/// saturation-pressure deviation among the components under this model: the mixture's own
+/// phase equilibrium has no recorded deviation.
+pub fn mixture_basis(choice: &MixtureChoice) -> pb::ResultBasis {
+    let model = choice.mixture.model();
+    let worst = choice
+        .components
+        .iter()
+        .filter_map(|(f, _)| accuracy_to_proto(f.accuracy_for(model), model))
+        .max_by(|a, b| {
+            a.saturation_pressure_max_abs_deviation_percent
+                .total_cmp(&b.saturation_pressure_max_abs_deviation_percent)
+        })
+        .map(|mut a| {
+            a.reference = format!(
+                "worst recorded pure-component deviation ({}); the mixture's phase equilibrium \
+                 (k_ij = 0) is not checked against measured mixture data",
+                a.reference
+            );
+            a
+        });
+    let class = choice.safety_class.map(|c| format!("Safety class {}. ", c.as_str())).unwrap_or_default();
+    pb::ResultBasis {
+        fluid_id: choice.id.clone(),
+        composition: fractions(choice, choice.mixture.mole_fractions()),
+        molar_mass_kg_per_mol: choice.mixture.molar_mass_kg_per_mol(),
+        equation_of_state: model_to_proto(model) as i32,
+        alpha_function: if choice.mixture.components().iter().all(|c| c.alpha_is_fitted()) {
+            pb::AlphaFunction::FluidFit as i32
+        } else {
+            pb::AlphaFunction::AcentricCorrelation as i32
+        },
+        reference_state: reference_to_proto(choice.reference) as i32,
+        expected_deviation: worst,
+        caution: format!(
+            "{class}{} Results are advisory; follow local codes and licensed practice.",
+            choice.caution
+        ),
+        warnings: choice.warnings.clone(),
+    }
+}
+
+fn mixture_thermo(phase: &binodal_eos::MixturePhase) -> pb::ThermoProperties {
+    let m = phase.molar_mass_kg_per_mol;
+    pb::ThermoProperties {
+        density_kg_per_m3: phase.density_kg_per_m3,
+        molar_volume_m3_per_mol: phase.molar_volume_m3_per_mol,
+        compressibility_factor: phase.compressibility,
+        enthalpy_j_per_mol: phase.enthalpy_j_per_mol,
+        enthalpy_j_per_kg: phase.enthalpy_j_per_mol.map(|h| h / m),
+        entropy_j_per_mol_k: phase.entropy_j_per_mol_k,
+        entropy_j_per_kg_k: phase.entropy_j_per_mol_k.map(|s| s / m),
+        isobaric_heat_capacity_j_per_mol_k: None,
+        isobaric_heat_capacity_j_per_kg_k: None,
+        isochoric_heat_capacity_j_per_mol_k: None,
+        isochoric_heat_capacity_j_per_kg_k: None,
+    }
+}
+
+/// A mixture's saturation answer from its bubble and dew points (at one temperature or
+/// one pressure) and the glide.
+pub fn mixture_saturation(
+    bubble: &binodal_eos::PhaseBoundaryPoint,
+    dew: &binodal_eos::PhaseBoundaryPoint,
+    glide_k: f64,
+    choice: &MixtureChoice,
+) -> pb::GetSaturationResponse {
+    let z = choice.mixture.mole_fractions();
+    let m = choice.mixture.molar_mass_kg_per_mol();
+    let dh = match (dew.bulk.enthalpy_j_per_mol, bubble.bulk.enthalpy_j_per_mol) {
+        (Some(hv), Some(hl)) => hv - hl,
+        _ => f64::NAN,
+    };
+    let ds = match (dew.bulk.entropy_j_per_mol_k, bubble.bulk.entropy_j_per_mol_k) {
+        (Some(sv), Some(sl)) => sv - sl,
+        _ => f64::NAN,
+    };
+    pb::GetSaturationResponse {
+        saturation_temperature_k: bubble.temperature_k,
+        saturation_pressure_pa: bubble.pressure_pa,
+        bubble_dew: Some(pb::BubbleDewPoints {
+            bubble_temperature_k: bubble.temperature_k,
+            dew_temperature_k: dew.temperature_k,
+            bubble_pressure_pa: bubble.pressure_pa,
+            dew_pressure_pa: dew.pressure_pa,
+            temperature_glide_k: glide_k,
+            incipient_vapor_composition: fractions(choice, &bubble.incipient_mole_fractions),
+            incipient_liquid_composition: fractions(choice, &dew.incipient_mole_fractions),
+        }),
+        liquid: Some(pb::SaturatedPhase {
+            temperature_k: bubble.temperature_k,
+            pressure_pa: bubble.pressure_pa,
+            properties: Some(mixture_thermo(&bubble.bulk)),
+            composition: fractions(choice, z),
+        }),
+        vapor: Some(pb::SaturatedPhase {
+            temperature_k: dew.temperature_k,
+            pressure_pa: dew.pressure_pa,
+            properties: Some(mixture_thermo(&dew.bulk)),
+            composition: fractions(choice, z),
+        }),
+        enthalpy_of_vaporization_j_per_mol: dh,
+        enthalpy_of_vaporization_j_per_kg: dh / m,
+        entropy_of_vaporization_j_per_mol_k: ds,
+        entropy_of_vaporization_j_per_kg_k: ds / m,
+        path: pb::ComputationPath::FullSolve as i32,
+        basis: Some(mixture_basis(choice)),
+    }
+}
+
+/// A mixture's state answer.
+pub fn mixture_state(state: &binodal_eos::MixtureState, choice: &MixtureChoice) -> pb::GetStateResponse {
+    let f = &state.flash;
+    let properties = if f.single_phase {
+        mixture_thermo(&f.liquid)
+    } else {
+        let b = f.vapor_fraction;
+        let v = (1.0 - b) * f.liquid.molar_volume_m3_per_mol + b * f.vapor.molar_volume_m3_per_mol;
+        let m = choice.mixture.molar_mass_kg_per_mol();
+        let entropy = match (f.liquid.entropy_j_per_mol_k, f.vapor.entropy_j_per_mol_k) {
+            (Some(sl), Some(sv)) => Some((1.0 - b) * sl + b * sv),
+            _ => None,
+        };
+        pb::ThermoProperties {
+            density_kg_per_m3: m / v,
+            molar_volume_m3_per_mol: v,
+            compressibility_factor: state.pressure_pa * v / (binodal_eos::GAS_CONSTANT * state.temperature_k),
+            enthalpy_j_per_mol: f.enthalpy_j_per_mol,
+            enthalpy_j_per_kg: f.enthalpy_j_per_mol.map(|h| h / m),
+            entropy_j_per_mol_k: entropy,
+            entropy_j_per_kg_k: entropy.map(|s| s / m),
+            isobaric_heat_capacity_j_per_mol_k: None,
+            isobaric_heat_capacity_j_per_kg_k: None,
+            isochoric_heat_capacity_j_per_mol_k: None,
+            isochoric_heat_capacity_j_per_kg_k: None,
+        }
+    };
+    let two_phase = (!f.single_phase).then(|| {
+        let comps = choice.mixture.components();
+        let mass = |x: &[f64]| -> f64 { comps.iter().zip(x).map(|(c, xi)| xi * c.molar_mass_kg_per_mol()).sum() };
+        let (ml, mv) = (mass(&f.liquid_mole_fractions), mass(&f.vapor_mole_fractions));
+        let b = f.vapor_fraction;
+        pb::TwoPhaseSplit {
+            vapor_fraction_mol: b,
+            vapor_fraction_mass: b * mv / ((1.0 - b) * ml + b * mv),
+            liquid_composition: fractions(choice, &f.liquid_mole_fractions),
+            vapor_composition: fractions(choice, &f.vapor_mole_fractions),
+        }
+    });
+    pb::GetStateResponse {
+        phase: phase_to_proto(state.phase) as i32,
+        properties: Some(properties),
+        margins: Some(pb::SaturationMargins {
+            saturation_temperature_k: None,
+            saturation_pressure_pa: None,
+            bubble_temperature_k: state.bubble_temperature_k,
+            dew_temperature_k: state.dew_temperature_k,
+            bubble_pressure_pa: state.bubble_pressure_pa,
+            dew_pressure_pa: state.dew_pressure_pa,
+            subcooling_k: state.subcooling_k,
+            superheat_k: state.superheat_k,
+            pressure_above_bubble_pa: state.pressure_above_bubble_pa,
+            pressure_below_dew_pa: state.pressure_below_dew_pa,
+            freezing_margin_k: None,
+        }),
+        two_phase,
+        reduced_temperature: state.reduced_temperature,
+        reduced_pressure: state.reduced_pressure,
+        estimated: false,
+        near_critical: state.near_critical,
+        path: pb::ComputationPath::FullSolve as i32,
+        basis: Some(mixture_basis(choice)),
     }
 }

@@ -3,8 +3,10 @@
 
 use std::collections::HashMap;
 
-use binodal_eos::{Model, PureEos, ReferenceState};
-use binodal_fluids::{Catalogue, FluidRecord};
+use std::sync::Arc;
+
+use binodal_eos::{Mixture, Model, PureEos, ReferenceState};
+use binodal_fluids::{Catalogue, FluidRecord, SafetyClass};
 
 use crate::status::ServiceError;
 
@@ -22,6 +24,8 @@ struct FluidEngines {
 pub struct Engines {
     catalogue: Catalogue,
     fluids: HashMap<String, FluidEngines>,
+    /// Every catalogue blend under every model and reference state.
+    blends: HashMap<(String, Model, ReferenceState), Result<Arc<Mixture>, binodal_eos::Error>>,
     /// The equation of state used when a request leaves it unspecified.
     pub default_model: Model,
     /// The reference state used when a request leaves it unspecified.
@@ -36,6 +40,27 @@ pub struct Chosen<'a> {
     /// The engine.
     pub eos: &'a PureEos,
     /// The reference state of its absolute h and s, if it has them.
+    pub reference: Option<ReferenceState>,
+}
+
+/// A mixture chosen for a request.
+#[derive(Debug)]
+pub struct MixtureChoice {
+    /// The blend's id, or `mixture` for a custom mixture.
+    pub id: String,
+    /// Display name.
+    pub name: String,
+    /// The prepared mixture.
+    pub mixture: Arc<Mixture>,
+    /// The component records with the fractions as given.
+    pub components: Vec<(FluidRecord, f64)>,
+    /// The caution to show.
+    pub caution: String,
+    /// ASHRAE 34 class of a catalogue blend.
+    pub safety_class: Option<SafetyClass>,
+    /// Notes on how the request was read.
+    pub warnings: Vec<String>,
+    /// The reference state of absolute h and s, if available.
     pub reference: Option<ReferenceState>,
 }
 
@@ -67,12 +92,142 @@ impl Engines {
             }
             fluids.insert(record.id.clone(), FluidEngines { by_model });
         }
-        Engines {
+        let mut engines = Engines {
             catalogue,
             fluids,
+            blends: HashMap::new(),
             default_model,
             default_reference,
+        };
+        let mut blends = HashMap::new();
+        for blend in engines.catalogue.blends() {
+            let parts: Vec<(String, f64)> = blend.components.clone();
+            for model in Model::ALL {
+                for reference in REFERENCES {
+                    let mixture = engines
+                        .build_mixture(&parts, true, model, Some(reference))
+                        .map(|(m, _)| Arc::new(m));
+                    blends.insert((blend.id.clone(), model, reference), mixture);
+                }
+            }
         }
+        engines.blends = blends;
+        engines
+    }
+
+    /// A mixture of catalogue fluids `(id, fraction)` under `model`, with absolute h and s
+    /// in `reference` where that applies (falling back to the normal-boiling-point
+    /// reference, then to none). Returns the mixture and the reference it uses.
+    fn build_mixture(
+        &self,
+        parts: &[(String, f64)],
+        mass_basis: bool,
+        model: Model,
+        reference: Option<ReferenceState>,
+    ) -> Result<(Mixture, Option<ReferenceState>), binodal_eos::Error> {
+        let mut components = Vec::with_capacity(parts.len());
+        for (id, _) in parts {
+            let record = self.catalogue.get(id).expect("mixture components are resolved first");
+            components.push(record.eos(model)?);
+        }
+        let fractions: Vec<f64> = parts.iter().map(|p| p.1).collect();
+        let mole = if mass_basis {
+            Mixture::mole_fractions_from_mass(&components, &fractions)
+        } else {
+            fractions
+        };
+        let plain = Mixture::new(components, mole, None)?;
+        let Some(reference) = reference else {
+            return Ok((plain, None));
+        };
+        for r in [reference, ReferenceState::LiquidAtNormalBoilingPoint] {
+            if let Ok(m) = plain.clone().with_reference(r) {
+                return Ok((m, Some(r)));
+            }
+        }
+        Ok((plain, None))
+    }
+
+    /// The mixture for a request: a catalogue blend by name, or a custom mixture of
+    /// catalogue fluids. `Ok(None)` when `name` names no blend.
+    pub fn choose_blend(
+        &self,
+        name: &str,
+        model: Option<Model>,
+        reference: Option<ReferenceState>,
+    ) -> Result<Option<MixtureChoice>, ServiceError> {
+        let Some(blend) = self.catalogue.blend(name) else {
+            return Ok(None);
+        };
+        let model = model.unwrap_or(self.default_model);
+        let reference = reference.unwrap_or(self.default_reference);
+        let mixture = self
+            .blends
+            .get(&(blend.id.clone(), model, reference))
+            .expect("every blend is prepared")
+            .clone()
+            .map_err(ServiceError::Engine)?;
+        Ok(Some(MixtureChoice {
+            id: blend.id.clone(),
+            name: blend.name.clone(),
+            reference: mixture.reference_state(),
+            components: self.component_records(&blend.components),
+            caution: blend.caution.clone(),
+            safety_class: blend.safety_class,
+            warnings: Vec::new(),
+            mixture,
+        }))
+    }
+
+    /// A custom mixture of catalogue fluids `(name, fraction)` (fractions already checked).
+    pub fn choose_custom(
+        &self,
+        parts: &[(String, f64)],
+        mass_basis: bool,
+        model: Option<Model>,
+        reference: Option<ReferenceState>,
+        warnings: Vec<String>,
+    ) -> Result<MixtureChoice, ServiceError> {
+        let mut resolved = Vec::with_capacity(parts.len());
+        for (i, (name, fraction)) in parts.iter().enumerate() {
+            let record = self.catalogue.get(name).map_err(|e| {
+                ServiceError::field(format!("fluid.mixture.components[{i}].fluid"), e.to_string())
+            })?;
+            if resolved.iter().any(|(id, _): &(String, f64)| *id == record.id) {
+                return Err(ServiceError::field(
+                    format!("fluid.mixture.components[{i}].fluid"),
+                    format!("{} appears twice; list each component once", record.name),
+                ));
+            }
+            resolved.push((record.id.clone(), *fraction));
+        }
+        let model = model.unwrap_or(self.default_model);
+        let (mixture, used) = self
+            .build_mixture(&resolved, mass_basis, model, Some(reference.unwrap_or(self.default_reference)))
+            .map_err(ServiceError::Engine)?;
+        let components = self.component_records(&resolved);
+        let caution = components
+            .iter()
+            .map(|(f, _)| format!("{}: {}", f.name, f.caution))
+            .collect::<Vec<_>>()
+            .join(" ");
+        Ok(MixtureChoice {
+            id: "mixture".into(),
+            name: components.iter().map(|(f, _)| f.name.as_str()).collect::<Vec<_>>().join("/"),
+            reference: used,
+            components,
+            caution,
+            safety_class: None,
+            warnings,
+            mixture: Arc::new(mixture),
+        })
+    }
+
+    fn component_records(&self, parts: &[(String, f64)]) -> Vec<(FluidRecord, f64)> {
+        parts
+            .iter()
+            .map(|(id, w)| (self.catalogue.get(id).expect("resolved").clone(), *w))
+            .collect()
     }
 
     /// The catalogue.

@@ -26,9 +26,14 @@
 //! defers to local codes and licensed practice.
 #![deny(missing_docs)]
 
+pub mod alarms;
 mod convert;
 mod engines;
+mod limits;
+pub mod metrics;
+pub mod security;
 mod service;
+mod serving;
 pub mod settings;
 mod status;
 pub mod telemetry;
@@ -37,9 +42,9 @@ use std::future::Future;
 use std::sync::Arc;
 
 use anyhow::Context as _;
+use binodal_proto::v1::alarm_service_server::AlarmServiceServer;
 use binodal_proto::v1::phase_service_server::PhaseServiceServer;
 use tokio::net::TcpListener;
-use tonic::transport::Server;
 use tonic::transport::server::TcpIncoming;
 use tonic_health::ServingStatus;
 use tonic_health::server::HealthReporter;
@@ -70,8 +75,19 @@ pub async fn run(
     health.set_serving::<PhaseServiceServer<PhaseApi>>().await;
 
     let limits = &settings.limits;
+    let (alarm_api, alarm_stop) = alarms::AlarmApi::new(
+        Arc::clone(&engines),
+        &settings.alarms,
+        limits.max_batch_length,
+    )?;
+    health
+        .set_serving::<AlarmServiceServer<alarms::AlarmApi>>()
+        .await;
+    let alarm_service = AlarmServiceServer::new(alarm_api)
+        .max_decoding_message_size(limits.max_message_size_bytes)
+        .max_encoding_message_size(limits.max_message_size_bytes);
     let api = PhaseApi::new(engines, limits.max_batch_length);
-    let phase_service = PhaseServiceServer::new(api)
+    let phase_service = PhaseServiceServer::new(metrics::Metered(api))
         .max_decoding_message_size(limits.max_message_size_bytes)
         .max_encoding_message_size(limits.max_message_size_bytes);
     let reflection_service = if settings.reflection {
@@ -86,25 +102,47 @@ pub async fn run(
         None
     };
 
+    let metrics_endpoint = metrics::start(&settings.metrics).await?;
     tracing::info!(
         %address,
+        tls = settings.tls.enabled(),
+        mutual_tls = settings.tls.mutual(),
+        token_required = settings.auth.required(),
+        metrics = ?metrics_endpoint.as_ref().map(|endpoint| endpoint.address),
+        max_concurrent_requests = limits.max_concurrent_requests,
+        load_shedding = limits.load_shedding,
         reflection = settings.reflection,
         default_equation_of_state = settings.default_equation_of_state.name(),
         default_reference_state = settings.default_reference_state.name(),
         "binodal server listening",
     );
-    Server::builder()
-        .timeout(limits.request_timeout)
-        .trace_fn(telemetry::request_span)
+    if !address.ip().is_loopback() && !(settings.tls.enabled() && settings.auth.required()) {
+        tracing::warn!(
+            %address,
+            "listening beyond loopback without both TLS and a token: any host that reaches \
+             this port can call the service (see the [tls] and [auth] settings)"
+        );
+    }
+    serving::server_builder(&settings)?
         .add_service(health_service)
         .add_optional_service(reflection_service)
         .add_service(phase_service)
+        .add_service(alarm_service)
         .serve_with_incoming_shutdown(
             TcpIncoming::from(listener).with_nodelay(Some(true)),
-            drain_on(shutdown, health),
+            drain_on(
+                async {
+                    shutdown.await;
+                    // Open alarm streams end with UNAVAILABLE so that shutdown does not wait
+                    // for dashboards that never close them.
+                    alarm_stop.stop();
+                },
+                health,
+            ),
         )
         .await
         .context("the gRPC server failed")?;
+    drop(metrics_endpoint);
     tracing::info!("binodal server stopped");
     Ok(())
 }

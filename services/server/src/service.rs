@@ -9,8 +9,8 @@ use binodal_proto::v1 as pb;
 use binodal_proto::v1::phase_service_server::PhaseService;
 use tonic::{Request, Response, Status};
 
-use crate::convert;
-use crate::engines::Engines;
+use crate::convert::{self, FluidRequest};
+use crate::engines::{Chosen, Engines, MixtureChoice};
 use crate::status::{ServiceError, engine_code};
 use crate::telemetry::{record_fluid, record_fluid_name};
 
@@ -52,7 +52,6 @@ fn state_batch(
     request: &pb::GetStateBatchRequest,
     max_batch_length: usize,
 ) -> Result<pb::GetStateBatchResponse, ServiceError> {
-    let name = convert::fluid_name(request.fluid.as_ref())?;
     let model = convert::model_from_proto(request.equation_of_state)?;
     let reference = convert::reference_from_proto(request.reference_state)?;
     let (ts, ps) = (&request.temperatures_k, &request.pressures_pa);
@@ -81,7 +80,10 @@ fn state_batch(
             ),
         ));
     }
-    let chosen = engines.choose(name, model, reference)?;
+    let chosen = match target(engines, request.fluid.as_ref(), model, reference)? {
+        Target::Pure(chosen) => chosen,
+        Target::Mixture(choice) => return Ok(mixture_batch(&choice, ts, ps)),
+    };
     let m = chosen.eos.molar_mass_kg_per_mol();
     let n = ts.len();
     let mut out = pb::GetStateBatchResponse {
@@ -168,6 +170,118 @@ fn state_batch(
     Ok(out)
 }
 
+/// What a request computes on: a pure fluid's prepared engine, or a mixture.
+enum Target<'a> {
+    Pure(Chosen<'a>),
+    Mixture(MixtureChoice),
+}
+
+impl PhaseApi {
+    fn target(
+        &self,
+        selector: Option<&pb::FluidSelector>,
+        model: Option<binodal_eos::Model>,
+        reference: Option<binodal_eos::ReferenceState>,
+    ) -> Result<Target<'_>, ServiceError> {
+        target(&self.engines, selector, model, reference)
+    }
+}
+
+/// Resolves a fluid selector once per request: a catalogue blend, a catalogue fluid, or a
+/// custom mixture.
+fn target<'a>(
+    engines: &'a Engines,
+    selector: Option<&pb::FluidSelector>,
+    model: Option<binodal_eos::Model>,
+    reference: Option<binodal_eos::ReferenceState>,
+) -> Result<Target<'a>, ServiceError> {
+    match convert::fluid_request(selector)? {
+        FluidRequest::Name(name) => {
+            if let Some(choice) = engines.choose_blend(name, model, reference)? {
+                return Ok(Target::Mixture(choice));
+            }
+            Ok(Target::Pure(engines.choose(name, model, reference)?))
+        }
+        FluidRequest::Mixture { parts, mass_basis, warnings } => Ok(Target::Mixture(
+            engines.choose_custom(&parts, mass_basis, model, reference, warnings)?,
+        )),
+    }
+}
+
+/// A batch for a mixture: each point through the mixture's classification.
+fn mixture_batch(choice: &MixtureChoice, ts: &[f64], ps: &[f64]) -> pb::GetStateBatchResponse {
+    let n = ts.len();
+    let nan = f64::NAN;
+    let m = choice.mixture.molar_mass_kg_per_mol();
+    let mut out = pb::GetStateBatchResponse { basis: Some(convert::mixture_basis(choice)), ..Default::default() };
+    for (i, (&t, &p)) in ts.iter().zip(ps).enumerate() {
+        let point = choice.mixture.state(t, p).map(|s| convert::mixture_state(&s, choice));
+        let (r, ok) = match point {
+            Ok(r) => (r, true),
+            Err(e) => {
+                let code = match engine_code(&e) {
+                    tonic::Code::OutOfRange => pb::PointErrorCode::OutOfRange,
+                    tonic::Code::Internal => pb::PointErrorCode::NotConverged,
+                    tonic::Code::InvalidArgument => pb::PointErrorCode::InvalidInput,
+                    _ => pb::PointErrorCode::Internal,
+                };
+                out.errors.push(pb::PointError { index: i as u32, code: code as i32, message: e.to_string() });
+                (pb::GetStateResponse::default(), false)
+            }
+        };
+        let props = r.properties.unwrap_or_default();
+        let margins = r.margins.unwrap_or_default();
+        let value = |x: f64| if ok { x } else { nan };
+        out.phases.push(r.phase);
+        out.densities_kg_per_m3.push(value(props.density_kg_per_m3));
+        out.compressibility_factors.push(value(props.compressibility_factor));
+        let h = props.enthalpy_j_per_mol.unwrap_or(nan);
+        let s = props.entropy_j_per_mol_k.unwrap_or(nan);
+        out.enthalpies_j_per_mol.push(h);
+        out.enthalpies_j_per_kg.push(h / m);
+        out.entropies_j_per_mol_k.push(s);
+        out.entropies_j_per_kg_k.push(s / m);
+        out.subcooling_k.push(margins.subcooling_k.unwrap_or(nan));
+        out.superheat_k.push(margins.superheat_k.unwrap_or(nan));
+        out.pressure_above_bubble_pa.push(margins.pressure_above_bubble_pa.unwrap_or(nan));
+        out.pressure_below_dew_pa.push(margins.pressure_below_dew_pa.unwrap_or(nan));
+        out.vapor_fractions_mol.push(r.two_phase.map_or(nan, |tp| tp.vapor_fraction_mol));
+        out.estimated.push(r.estimated);
+        out.near_critical.push(r.near_critical);
+        out.paths.push(if ok { pb::ComputationPath::FullSolve as i32 } else { pb::ComputationPath::Unspecified as i32 });
+    }
+    debug_assert_eq!(out.phases.len(), n);
+    out
+}
+
+/// Bubble and dew points of a mixture at the requested temperature or pressure.
+fn mixture_saturation(
+    choice: &MixtureChoice,
+    condition: Option<pb::get_saturation_request::Condition>,
+) -> Result<pb::GetSaturationResponse, ServiceError> {
+    use pb::get_saturation_request::Condition;
+    let m = &choice.mixture;
+    let (bubble, dew, glide) = match condition {
+        Some(Condition::TemperatureK(t)) => {
+            let t = finite("temperature_k", t)?;
+            let bubble = m.bubble_at_temperature(t)?;
+            let dew = m.dew_at_temperature(t)?;
+            // Glide at the bubble pressure found for this temperature.
+            let glide = m.dew_at_pressure(bubble.pressure_pa)?.temperature_k - t;
+            (bubble, dew, glide)
+        }
+        Some(Condition::PressurePa(p)) => {
+            let p = finite("pressure_pa", p)?;
+            let bubble = m.bubble_at_pressure(p)?;
+            let dew = m.dew_at_pressure(p)?;
+            let glide = dew.temperature_k - bubble.temperature_k;
+            (bubble, dew, glide)
+        }
+        None => return Err(ServiceError::field("condition", "missing: give temperature_k or pressure_pa")),
+    };
+    Ok(convert::mixture_saturation(&bubble, &dew, glide, choice))
+}
+
 #[tonic::async_trait]
 impl PhaseService for PhaseApi {
     async fn list_fluids(
@@ -236,11 +350,15 @@ impl PhaseService for PhaseApi {
     ) -> Result<Response<pb::GetSaturationResponse>, Status> {
         let request = request.into_inner();
         record_fluid(request.fluid.as_ref());
-        let name = convert::fluid_name(request.fluid.as_ref())?;
         let model = convert::model_from_proto(request.equation_of_state)?;
         let reference = convert::reference_from_proto(request.reference_state)?;
-        let chosen = self.engines.choose(name, model, reference)?;
         use pb::get_saturation_request::Condition;
+        let chosen = match self.target(request.fluid.as_ref(), model, reference)? {
+            Target::Pure(chosen) => chosen,
+            Target::Mixture(choice) => {
+                return Ok(Response::new(mixture_saturation(&choice, request.condition)?));
+            }
+        };
         let sat = match request.condition {
             Some(Condition::TemperatureK(t)) => chosen
                 .eos
@@ -266,12 +384,17 @@ impl PhaseService for PhaseApi {
     ) -> Result<Response<pb::GetStateResponse>, Status> {
         let request = request.into_inner();
         record_fluid(request.fluid.as_ref());
-        let name = convert::fluid_name(request.fluid.as_ref())?;
         let model = convert::model_from_proto(request.equation_of_state)?;
         let reference = convert::reference_from_proto(request.reference_state)?;
         let t = finite("temperature_k", request.temperature_k)?;
         let p = finite("pressure_pa", request.pressure_pa)?;
-        let chosen = self.engines.choose(name, model, reference)?;
+        let chosen = match self.target(request.fluid.as_ref(), model, reference)? {
+            Target::Pure(chosen) => chosen,
+            Target::Mixture(choice) => {
+                let state = choice.mixture.state(t, p).map_err(ServiceError::from)?;
+                return Ok(Response::new(convert::mixture_state(&state, &choice)));
+            }
+        };
         let state = chosen.eos.state(t, p).map_err(ServiceError::from)?;
         Ok(Response::new(convert::state(&state, &chosen)))
     }

@@ -22,7 +22,7 @@ const ENV_PREFIX: &str = "BINODAL";
 const ENV_SECTION_SEPARATOR: &str = "__";
 
 /// Every settings key, as written in the TOML file (section and key joined by a dot).
-pub const SETTING_KEYS: [&str; 10] = [
+pub const SETTING_KEYS: [&str; 25] = [
     "listen_address",
     "default_equation_of_state",
     "default_reference_state",
@@ -33,6 +33,21 @@ pub const SETTING_KEYS: [&str; 10] = [
     "limits.max_message_size_bytes",
     "limits.max_batch_length",
     "limits.request_timeout_ms",
+    "limits.max_concurrent_requests",
+    "limits.load_shedding",
+    "limits.max_concurrent_streams",
+    "limits.max_connection_age_s",
+    "tls.certificate_file",
+    "tls.private_key_file",
+    "tls.client_ca_file",
+    "auth.token_file",
+    "auth.token",
+    "metrics.enabled",
+    "metrics.listen_address",
+    "alarms.stale_after_s",
+    "alarms.default_ambient_pressure_pa",
+    "alarms.max_tags_per_stream",
+    "alarms.tags",
 ];
 
 /// Smallest accepted message size limit: 64 KiB.
@@ -43,6 +58,12 @@ const MAX_MESSAGE_SIZE_BYTES: u64 = 1024 * 1024 * 1024;
 const MAX_BATCH_LENGTH: u64 = 10_000_000;
 /// Largest accepted request timeout: one hour.
 const MAX_REQUEST_TIMEOUT_MS: u64 = 3_600_000;
+/// Largest accepted limit on calls in progress.
+const MAX_CONCURRENT_REQUESTS: u64 = 100_000;
+/// Largest accepted limit on HTTP/2 streams per connection.
+const MAX_CONCURRENT_STREAMS: u64 = 10_000;
+/// Largest accepted connection age: one week.
+const MAX_CONNECTION_AGE_S: u64 = 7 * 24 * 3600;
 
 /// Validated server settings.
 #[derive(Debug, Clone, PartialEq)]
@@ -62,6 +83,15 @@ pub struct Settings {
     pub log: LogSettings,
     /// Size, length and time limits (`[limits]` section).
     pub limits: Limits,
+    /// Transport security (`[tls]` section).
+    pub tls: crate::security::TlsSettings,
+    /// Caller authentication (`[auth]` section).
+    pub auth: crate::security::AuthSettings,
+    /// Metrics endpoint (`[metrics]` section).
+    pub metrics: crate::metrics::MetricsSettings,
+    /// Alarm watch: stale time, default ambient pressure, tag limit, rules per tag (`[alarms]`
+    /// section).
+    pub alarms: crate::alarms::config::AlarmSettings,
 }
 
 /// Logging settings (`[log]` section).
@@ -84,6 +114,17 @@ pub struct Limits {
     /// Time a request may take before it fails with DEADLINE_EXCEEDED
     /// (`limits.request_timeout_ms`).
     pub request_timeout: Duration,
+    /// Calls in progress at once, across all connections (`limits.max_concurrent_requests`);
+    /// health checks do not count.
+    pub max_concurrent_requests: usize,
+    /// Whether a call finding every slot taken is refused at once with UNAVAILABLE (`true`) or
+    /// waits for a slot until the request timeout (`false`) (`limits.load_shedding`).
+    pub load_shedding: bool,
+    /// HTTP/2 streams (calls) open at once on one connection (`limits.max_concurrent_streams`).
+    pub max_concurrent_streams: u32,
+    /// Age in seconds after which a connection is closed gracefully so that clients reconnect and
+    /// rebalance; 0 keeps connections open (`limits.max_connection_age_s`).
+    pub max_connection_age_s: u64,
 }
 
 /// Format of log lines.
@@ -213,7 +254,11 @@ pub enum SettingsError {
 }
 
 impl SettingsError {
-    fn invalid(setting: &'static str, value: impl ToString, valid: impl Into<String>) -> Self {
+    pub(crate) fn invalid(
+        setting: &'static str,
+        value: impl ToString,
+        valid: impl Into<String>,
+    ) -> Self {
         Self::Invalid {
             setting,
             variable: environment_variable(setting),
@@ -279,7 +324,15 @@ impl Default for Settings {
                 max_message_size_bytes: 4 * 1024 * 1024,
                 max_batch_length: 100_000,
                 request_timeout: Duration::from_secs(10),
+                max_concurrent_requests: 256,
+                load_shedding: true,
+                max_concurrent_streams: 128,
+                max_connection_age_s: 0,
             },
+            tls: crate::security::TlsSettings::default(),
+            auth: crate::security::AuthSettings::default(),
+            metrics: crate::metrics::MetricsSettings::default(),
+            alarms: crate::alarms::config::AlarmSettings::default(),
         }
     }
 }
@@ -327,7 +380,15 @@ impl Settings {
                 max_message_size_bytes: self.limits.max_message_size_bytes as u64,
                 max_batch_length: self.limits.max_batch_length as u64,
                 request_timeout_ms: self.limits.request_timeout.as_millis() as u64,
+                max_concurrent_requests: self.limits.max_concurrent_requests as u64,
+                load_shedding: self.limits.load_shedding,
+                max_concurrent_streams: u64::from(self.limits.max_concurrent_streams),
+                max_connection_age_s: self.limits.max_connection_age_s,
             },
+            tls: self.tls.raw(),
+            auth: self.auth.raw(),
+            metrics: self.metrics.raw(),
+            alarms: self.alarms.raw(),
         }
     }
 
@@ -394,7 +455,31 @@ impl Settings {
                     1,
                     MAX_REQUEST_TIMEOUT_MS,
                 )? as u64),
+                max_concurrent_requests: in_range(
+                    "limits.max_concurrent_requests",
+                    raw.limits.max_concurrent_requests,
+                    1,
+                    MAX_CONCURRENT_REQUESTS,
+                )?,
+                load_shedding: raw.limits.load_shedding,
+                max_concurrent_streams: in_range(
+                    "limits.max_concurrent_streams",
+                    raw.limits.max_concurrent_streams,
+                    1,
+                    MAX_CONCURRENT_STREAMS,
+                )? as u32,
+                max_connection_age_s: in_range(
+                    "limits.max_connection_age_s",
+                    raw.limits.max_connection_age_s,
+                    0,
+                    MAX_CONNECTION_AGE_S,
+                )? as u64,
             },
+            tls: crate::security::TlsSettings::validate(raw.tls)?,
+            auth: crate::security::AuthSettings::validate(raw.auth)?,
+            metrics: crate::metrics::MetricsSettings::validate(raw.metrics)?,
+            alarms: crate::alarms::config::AlarmSettings::validate(raw.alarms)
+                .map_err(|e| SettingsError::invalid(e.setting, e.value, e.valid))?,
         })
     }
 }
@@ -411,6 +496,10 @@ struct RawSettings {
     reflection: bool,
     log: RawLog,
     limits: RawLimits,
+    tls: crate::security::RawTls,
+    auth: crate::security::RawAuth,
+    metrics: crate::metrics::RawMetrics,
+    alarms: crate::alarms::config::RawAlarms,
 }
 
 /// The `[log]` section as read.
@@ -428,6 +517,10 @@ struct RawLimits {
     max_message_size_bytes: u64,
     max_batch_length: u64,
     request_timeout_ms: u64,
+    max_concurrent_requests: u64,
+    load_shedding: bool,
+    max_concurrent_streams: u64,
+    max_connection_age_s: u64,
 }
 
 /// Splits the `BINODAL_*` variables into those that name a setting and the names of the rest.

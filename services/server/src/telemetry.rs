@@ -7,13 +7,19 @@
 //! method path; handlers add the fluid with [`record_fluid`]. The formatter reports the span when
 //! it closes, with its busy and idle time, so the duration of every request is visible at DEBUG
 //! level while INFO carries no line per request.
+//!
+//! Every request span carries the call's `request_id` (see [`crate::metrics`]), and failed calls
+//! are logged with it at INFO and above. [`LogReload`] changes the level filter of the running
+//! process; the server binary applies the `log.level` setting again on SIGHUP, so the level
+//! changes without a rebuild or a restart.
 
 use binodal_proto::v1::{FluidSelector, fluid_selector::Choice};
 use tonic::codegen::http;
 use tracing::Span;
-use tracing_subscriber::EnvFilter;
 use tracing_subscriber::fmt::format::FmtSpan;
+use tracing_subscriber::layer::SubscriberExt as _;
 use tracing_subscriber::util::SubscriberInitExt as _;
+use tracing_subscriber::{EnvFilter, Registry, reload};
 
 use crate::settings::{LogFormat, LogSettings};
 
@@ -42,8 +48,32 @@ pub enum LoggingError {
     AlreadyInitialised(#[from] tracing_subscriber::util::TryInitError),
 }
 
-/// Installs the global log subscriber. Call once, before the server starts.
-pub fn init_logging(log: &LogSettings) -> Result<(), LoggingError> {
+/// Changes the level filter of the installed log subscriber.
+#[derive(Debug, Clone)]
+pub struct LogReload {
+    handle: reload::Handle<EnvFilter, Registry>,
+}
+
+impl LogReload {
+    /// Replaces the level filter with `level` (`tracing` directive syntax, as the `log.level`
+    /// setting). An invalid filter leaves the current one in place.
+    pub fn set_level(&self, level: &str) -> Result<(), LoggingError> {
+        let filter = EnvFilter::try_new(level).map_err(|error| LoggingError::InvalidLevel {
+            value: level.to_owned(),
+            reason: error.to_string(),
+        })?;
+        self.handle
+            .reload(filter)
+            .map_err(|error| LoggingError::InvalidLevel {
+                value: level.to_owned(),
+                reason: error.to_string(),
+            })
+    }
+}
+
+/// Installs the global log subscriber. Call once, before the server starts. The returned handle
+/// changes the level filter later.
+pub fn init_logging(log: &LogSettings) -> Result<LogReload, LoggingError> {
     let filter = match std::env::var("RUST_LOG") {
         Ok(value) if !value.trim().is_empty() => {
             EnvFilter::try_new(&value).map_err(|error| LoggingError::InvalidRustLog {
@@ -56,23 +86,35 @@ pub fn init_logging(log: &LogSettings) -> Result<(), LoggingError> {
             reason: error.to_string(),
         })?,
     };
-    let builder = tracing_subscriber::fmt()
-        .with_env_filter(filter)
-        .with_span_events(FmtSpan::CLOSE)
-        .with_writer(std::io::stderr);
-    match log.format {
-        LogFormat::Text => builder.finish().try_init()?,
-        LogFormat::Json => builder.json().with_current_span(true).finish().try_init()?,
-    }
-    Ok(())
+    let (filter, handle) = reload::Layer::new(filter);
+    let text = (log.format == LogFormat::Text).then(|| {
+        tracing_subscriber::fmt::layer()
+            .with_span_events(FmtSpan::CLOSE)
+            .with_writer(std::io::stderr)
+    });
+    let json = (log.format == LogFormat::Json).then(|| {
+        tracing_subscriber::fmt::layer()
+            .json()
+            .with_current_span(true)
+            .with_span_events(FmtSpan::CLOSE)
+            .with_writer(std::io::stderr)
+    });
+    tracing_subscriber::registry()
+        .with(filter)
+        .with(text)
+        .with(json)
+        .try_init()?;
+    Ok(LogReload { handle })
 }
 
-/// The span one gRPC request runs in: DEBUG level, named `rpc`, with the method path and an
-/// initially empty `fluid` field. Installed with `tonic::transport::Server::trace_fn`.
+/// The span one gRPC request runs in: DEBUG level, named `rpc`, with the method path and
+/// initially empty `request_id` and `fluid` fields. Installed with
+/// `tonic::transport::Server::trace_fn`.
 pub fn request_span(request: &http::Request<()>) -> Span {
     tracing::debug_span!(
         "rpc",
         method = %request.uri().path(),
+        request_id = tracing::field::Empty,
         fluid = tracing::field::Empty,
     )
 }

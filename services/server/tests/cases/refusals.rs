@@ -328,14 +328,14 @@ async fn bad_requests_get_precise_statuses() {
             violation: Some("reference_state"),
         },
         Refusal {
-            what: "ad-hoc mixture (not built yet)",
+            what: "mixture with a NaN fraction",
             call: Call::State(pb::GetStateRequest {
                 fluid: Some(pb::FluidSelector {
                     choice: Some(pb::fluid_selector::Choice::Mixture(pb::Mixture {
                         components: vec![
                             pb::MixtureComponent {
                                 fluid: "propane".into(),
-                                fraction: 0.5,
+                                fraction: f64::NAN,
                             },
                             pb::MixtureComponent {
                                 fluid: "isobutane".into(),
@@ -349,9 +349,9 @@ async fn bad_requests_get_precise_statuses() {
                 pressure_pa: 1.0e5,
                 ..Default::default()
             }),
-            code: Code::Unimplemented,
-            fragments: words(&["mixture"]),
-            violation: None,
+            code: Code::InvalidArgument,
+            fragments: words(&["fraction", "finite"]),
+            violation: Some("fluid.mixture.components[0].fraction"),
         },
     ];
     check_all(&mut client, table).await;

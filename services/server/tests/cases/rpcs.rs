@@ -649,6 +649,7 @@ fn convert_phase(phase: Phase) -> pb::Phase {
         Phase::SupercriticalFluid => pb::Phase::SupercriticalFluid,
         Phase::GasAboveCriticalTemperature => pb::Phase::GasAboveCriticalTemperature,
         Phase::SolidEstimated => pb::Phase::SolidEstimated,
+        Phase::TwoPhase => pb::Phase::TwoPhase,
     }
 }
 

@@ -1,6 +1,11 @@
 //! Helpers shared by the end-to-end tests: a real server started in-process on `127.0.0.1:0`, and
 //! clients connected to it over TCP.
 
+pub mod certs;
+pub mod process;
+#[path = "../../examples/support/resilience.rs"]
+pub mod resilience;
+
 use std::net::SocketAddr;
 use std::time::Duration;
 

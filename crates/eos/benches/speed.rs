@@ -1,0 +1,199 @@
+//! Speed of the lookup paths, each beside a trivial floor timed in the same run:
+//!
+//! | benchmark | floor |
+//! |---|---|
+//! | cubic solve | evaluating the same cubic once (Horner) |
+//! | saturation pressure through the curve | a bare Chebyshev evaluation of the curve's degree |
+//! | saturation pressure through the full solve | the same Chebyshev evaluation |
+//! | both saturated phases through the curve | a plain cubic solve |
+//! | classification at (T, P) through the curve | a plain cubic solve |
+//! | 10 000 classifications in one thread | 10 000 plain cubic solves |
+//!
+//! After criterion's own report the ratios are printed (mean time per call of each benchmark
+//! over the mean of its floor, both measured in this run). Run with
+//! `cargo bench -p binodal-eos --bench speed`.
+
+use std::cell::RefCell;
+use std::collections::BTreeMap;
+use std::hint::black_box;
+use std::time::{Duration, Instant};
+
+use binodal_eos::{
+    CURVE_DEGREE, FluidConstants, IdealGasCp, Model, PureEos, ReferenceState, clenshaw,
+    solve_cubic,
+};
+use criterion::Criterion;
+
+/// Propane with the data a catalogue fluid has. Critical point, acentric factor and triple
+/// point: Lemmon, McLinden and Wagner (2009) (from memory); ideal-gas cp polynomial: Poling,
+/// Prausnitz and O'Connell (2001), Appendix A (from memory).
+fn propane() -> FluidConstants {
+    let mut f = FluidConstants::new("propane", 0.044_097, 369.89, 4.2512e6, 0.1521);
+    f.triple_point_temperature_k = Some(85.525);
+    f.heat_of_fusion_j_per_mol = Some(3_500.0);
+    f.ideal_gas_cp = Some(IdealGasCp {
+        coefficients: [3.847, 5.131e-3, 6.011e-5, -7.893e-8, 3.079e-11],
+        t_min_k: 50.0,
+        t_max_k: 1000.0,
+    });
+    f
+}
+
+/// Mean time per call of every benchmark, accumulated over all of criterion's batches.
+#[derive(Default)]
+struct Tally(RefCell<BTreeMap<&'static str, (Duration, u64)>>);
+
+impl Tally {
+    fn bench<R>(&self, c: &mut Criterion, name: &'static str, calls: u64, mut f: impl FnMut() -> R) {
+        c.bench_function(name, |b| {
+            b.iter_custom(|iters| {
+                let start = Instant::now();
+                for _ in 0..iters {
+                    black_box(f());
+                }
+                let elapsed = start.elapsed();
+                let mut map = self.0.borrow_mut();
+                let entry = map.entry(name).or_default();
+                entry.0 += elapsed;
+                entry.1 += iters * calls;
+                elapsed
+            })
+        });
+    }
+
+    fn mean_ns(&self, name: &str) -> Option<f64> {
+        let map = self.0.borrow();
+        let (total, calls) = map.get(name)?;
+        (*calls > 0).then(|| total.as_secs_f64() * 1e9 / *calls as f64)
+    }
+
+    fn print_ratio(&self, what: &str, floor: &str) {
+        if let (Some(a), Some(b)) = (self.mean_ns(what), self.mean_ns(floor)) {
+            println!(
+                "ratio  {what}: {a:.1} ns per call / {floor}: {b:.1} ns = {:.2}",
+                a / b
+            );
+        }
+    }
+}
+
+const CUBIC: &str = "cubic solve";
+const CUBIC_FLOOR: &str = "floor: cubic evaluated once";
+const SAT_CURVE: &str = "saturation pressure, curve";
+const SAT_SOLVE: &str = "saturation pressure, full solve";
+const CHEB_FLOOR: &str = "floor: Chebyshev evaluation of the curve's degree";
+const SATPHASES_CURVE: &str = "saturated phases at T, curve";
+const SATPHASES_SOLVE: &str = "saturated phases at T, full solve";
+const STATE_CURVE: &str = "classification at (T, P), curve";
+const STATE_SOLVE: &str = "classification at (T, P), full solve";
+const PLAIN_CUBIC: &str = "floor: plain cubic solve";
+const BATCH: &str = "10 000 classifications, one thread";
+const BATCH_FLOOR: &str = "floor: 10 000 plain cubic solves";
+
+fn main() {
+    let mut c = Criterion::default().configure_from_args();
+    let tally = Tally::default();
+
+    let solved = PureEos::new(&propane(), Model::PengRobinson1978)
+        .and_then(|e| e.with_reference(ReferenceState::LiquidAtZeroCelsius))
+        .expect("propane engine");
+    let curved = solved
+        .clone()
+        .with_saturation_curve()
+        .expect("propane curve");
+
+    // Inputs cycle through a few values so that no call is a repeat of the last.
+    let temps: Vec<f64> = (0..64).map(|i| 200.0 + 2.3 * i as f64).collect();
+    let states: Vec<(f64, f64)> = (0..64)
+        .map(|i| (220.0 + 2.1 * i as f64, 0.15e6 * 1.05f64.powi(i)))
+        .collect();
+    let cubics: Vec<(f64, f64, f64)> = (0..64)
+        .map(|i| (-1.0 - 0.001 * i as f64, 0.2, -0.001))
+        .collect();
+    let coefficients: Vec<f64> = (0..=CURVE_DEGREE).map(|k| 0.5f64.powi(k as i32)).collect();
+
+    let mut k = 0usize;
+    let mut next = move || {
+        k = (k + 1) & 63;
+        k
+    };
+
+    tally.bench(&mut c, CUBIC, 1, || {
+        let (a, b, d) = cubics[next()];
+        solve_cubic(a, b, d)
+    });
+    tally.bench(&mut c, CUBIC_FLOOR, 1, || {
+        let (a, b, d) = cubics[next()];
+        let z = black_box(0.9);
+        ((z + a) * z + b) * z + d
+    });
+    tally.bench(&mut c, CHEB_FLOOR, 1, || {
+        let u = -0.9 + 0.028 * next() as f64;
+        clenshaw(&coefficients, u)
+    });
+    tally.bench(&mut c, SAT_CURVE, 1, || {
+        curved.saturation_pressure(temps[next()]).expect("in range")
+    });
+    tally.bench(&mut c, SAT_SOLVE, 1, || {
+        solved.saturation_pressure(temps[next()]).expect("in range")
+    });
+    tally.bench(&mut c, PLAIN_CUBIC, 1, || {
+        let (t, p) = states[next()];
+        curved.compressibility_roots(t, p)
+    });
+    tally.bench(&mut c, SATPHASES_CURVE, 1, || {
+        curved
+            .saturation_at_temperature(temps[next()])
+            .expect("in range")
+    });
+    tally.bench(&mut c, SATPHASES_SOLVE, 1, || {
+        solved
+            .saturation_at_temperature(temps[next()])
+            .expect("in range")
+    });
+    tally.bench(&mut c, STATE_CURVE, 1, || {
+        let (t, p) = states[next()];
+        curved.state(t, p).expect("in range")
+    });
+    tally.bench(&mut c, STATE_SOLVE, 1, || {
+        let (t, p) = states[next()];
+        solved.state(t, p).expect("in range")
+    });
+
+    // 10 000 points spanning liquid, vapor and supercritical states.
+    let points: Vec<(f64, f64)> = (0..10_000)
+        .map(|i| {
+            let t = 200.0 + 250.0 * ((i * 37) % 100) as f64 / 99.0;
+            let p = 0.05e6 * (160.0f64).powf((i % 100) as f64 / 99.0);
+            (t, p)
+        })
+        .collect();
+    let mut phases = vec![0u8; points.len()];
+    let mut densities = vec![0.0; points.len()];
+    tally.bench(&mut c, BATCH, points.len() as u64, || {
+        for (i, &(t, p)) in points.iter().enumerate() {
+            let s = curved.state(t, p).expect("in range");
+            phases[i] = s.phase as u8;
+            densities[i] = s.properties.density_kg_per_m3;
+        }
+        densities[0]
+    });
+    tally.bench(&mut c, BATCH_FLOOR, points.len() as u64, || {
+        for (i, &(t, p)) in points.iter().enumerate() {
+            densities[i] = curved.compressibility_roots(t, p).largest();
+        }
+        densities[0]
+    });
+
+    c.final_summary();
+    println!();
+    tally.print_ratio(CUBIC, CUBIC_FLOOR);
+    tally.print_ratio(SAT_CURVE, CHEB_FLOOR);
+    tally.print_ratio(SAT_SOLVE, CHEB_FLOOR);
+    tally.print_ratio(SAT_SOLVE, SAT_CURVE);
+    tally.print_ratio(SATPHASES_CURVE, PLAIN_CUBIC);
+    tally.print_ratio(SATPHASES_SOLVE, SATPHASES_CURVE);
+    tally.print_ratio(STATE_CURVE, PLAIN_CUBIC);
+    tally.print_ratio(STATE_SOLVE, STATE_CURVE);
+    tally.print_ratio(BATCH, BATCH_FLOOR);
+}

@@ -1,0 +1,221 @@
+//! The `binodal.v1.AlarmService` handlers: the gRPC glue around [`super::session`].
+//!
+//! Each stream runs in its own task: it reads one request, has the session process it (on the
+//! blocking pool when it carries many readings, so a large batch never holds up the runtime's
+//! workers), and sends one response before reading the next request. The response queue is
+//! bounded, so a client that stops reading responses stops being read from (back-pressure) rather
+//! than growing the server's memory.
+
+use std::sync::Arc;
+
+use anyhow::Context as _;
+use binodal_proto::v1 as pb;
+use binodal_proto::v1::alarm_service_server::AlarmService;
+use tokio::sync::{mpsc, watch};
+use tokio_stream::wrappers::ReceiverStream;
+use tonic::{Request, Response, Status, Streaming};
+use tracing::Instrument as _;
+
+use super::config::AlarmSettings;
+use super::session::{Evaluator, ReadingIn, Session};
+use super::wire;
+use crate::engines::Engines;
+use crate::status::ServiceError;
+
+/// Requests with at least this many readings are processed on the blocking thread pool.
+const BLOCKING_READINGS: usize = 64;
+/// Responses a stream may have queued before it stops reading requests.
+const RESPONSE_QUEUE: usize = 8;
+
+/// The alarm service handlers.
+#[derive(Debug, Clone)]
+pub struct AlarmApi {
+    engines: Arc<Engines>,
+    settings: Arc<AlarmSettings>,
+    max_batch_length: usize,
+    stop: watch::Receiver<bool>,
+}
+
+/// Ends every open alarm stream when the server shuts down (see [`AlarmStop::stop`]).
+#[derive(Debug)]
+pub struct AlarmStop(watch::Sender<bool>);
+
+impl AlarmStop {
+    /// Ends every open stream with UNAVAILABLE ("the server is shutting down"), so that a graceful
+    /// shutdown does not wait for dashboards that never close their streams.
+    pub fn stop(&self) {
+        self.0.send_replace(true);
+    }
+}
+
+impl AlarmApi {
+    /// The service over prepared engines. Fails when a fluid named in the alarm settings is not in
+    /// the catalogue.
+    pub fn new(
+        engines: Arc<Engines>,
+        settings: &AlarmSettings,
+        max_batch_length: usize,
+    ) -> anyhow::Result<(AlarmApi, AlarmStop)> {
+        for (index, entry) in settings.tags.iter().enumerate() {
+            if let Some(fluid) = &entry.fluid {
+                engines.catalogue().get(fluid).with_context(|| {
+                    format!(
+                        "setting `alarms.tags[{index}].fluid` = {fluid:?} (tag {})",
+                        entry.pattern.text()
+                    )
+                })?;
+            }
+        }
+        let (sender, stop) = watch::channel(false);
+        Ok((
+            AlarmApi {
+                engines,
+                settings: Arc::new(settings.clone()),
+                max_batch_length,
+                stop,
+            },
+            AlarmStop(sender),
+        ))
+    }
+
+    fn evaluator(&self, setup: super::session::Setup) -> Evaluator {
+        Evaluator::new(Arc::clone(&self.engines), Arc::clone(&self.settings), setup)
+    }
+
+    /// Serves one stream until the client closes it, the client goes away, the opening is
+    /// invalid, or the server shuts down.
+    async fn serve_stream(
+        self,
+        mut inbound: Streaming<pb::WatchRequest>,
+        responses: mpsc::Sender<Result<pb::WatchResponse, Status>>,
+    ) {
+        let mut stop = self.stop.clone();
+        let mut session: Option<Session> = None;
+        let mut readings_seen: u64 = 0;
+        loop {
+            let next = tokio::select! {
+                biased;
+                () = stopped(&mut stop) => {
+                    let _ = responses
+                        .send(Err(Status::unavailable(
+                            "the server is shutting down: reconnect and send the opening again",
+                        )))
+                        .await;
+                    break;
+                }
+                next = inbound.message() => next,
+            };
+            let request = match next {
+                Ok(Some(request)) => request,
+                Ok(None) => break,
+                Err(status) => {
+                    tracing::debug!(%status, "alarm stream: the client's side failed");
+                    break;
+                }
+            };
+            let repeated_opening = session.is_some() && request.opening.is_some();
+            let mut current = match session.take() {
+                Some(current) => current,
+                None => match wire::setup(request.opening.as_ref(), "opening", &self.engines) {
+                    Ok(setup) => Session::new(self.evaluator(setup)),
+                    Err(error) => {
+                        let _ = responses.send(Err(Status::from(error))).await;
+                        break;
+                    }
+                },
+            };
+            let readings: Vec<ReadingIn> =
+                request.readings.into_iter().map(wire::reading).collect();
+            readings_seen += readings.len() as u64;
+            let response = if readings.len() >= BLOCKING_READINGS {
+                let work = tokio::task::spawn_blocking(move || {
+                    let response = wire::watch_response(current.handle(readings, repeated_opening));
+                    (current, response)
+                });
+                match work.await {
+                    Ok((returned, response)) => {
+                        current = returned;
+                        response
+                    }
+                    Err(error) => {
+                        let _ = responses
+                            .send(Err(Status::internal(format!(
+                                "alarm stream worker failed: {error}"
+                            ))))
+                            .await;
+                        break;
+                    }
+                }
+            } else {
+                wire::watch_response(current.handle(readings, repeated_opening))
+            };
+            let tags = current.tag_count();
+            session = Some(current);
+            if responses.send(Ok(response)).await.is_err() {
+                tracing::debug!(tags, "alarm stream: the client stopped reading");
+                break;
+            }
+        }
+        tracing::debug!(
+            readings = readings_seen,
+            tags = session.as_ref().map_or(0, Session::tag_count),
+            "alarm stream closed"
+        );
+    }
+}
+
+/// Completes when the stop flag is set; never, if the flag's sender is gone without setting it.
+async fn stopped(stop: &mut watch::Receiver<bool>) {
+    if stop.wait_for(|stopping| *stopping).await.is_err() {
+        std::future::pending::<()>().await;
+    }
+}
+
+#[tonic::async_trait]
+impl AlarmService for AlarmApi {
+    type WatchReadingsStream = ReceiverStream<Result<pb::WatchResponse, Status>>;
+
+    async fn watch_readings(
+        &self,
+        request: Request<Streaming<pb::WatchRequest>>,
+    ) -> Result<Response<Self::WatchReadingsStream>, Status> {
+        let inbound = request.into_inner();
+        let (sender, receiver) = mpsc::channel(RESPONSE_QUEUE);
+        tokio::spawn(
+            self.clone()
+                .serve_stream(inbound, sender)
+                .instrument(tracing::Span::current()),
+        );
+        Ok(Response::new(ReceiverStream::new(receiver)))
+    }
+
+    async fn evaluate_readings(
+        &self,
+        request: Request<pb::EvaluateReadingsRequest>,
+    ) -> Result<Response<pb::EvaluateReadingsResponse>, Status> {
+        let request = request.into_inner();
+        let count = request.readings.len();
+        if count > self.max_batch_length {
+            return Err(ServiceError::field(
+                "readings",
+                format!(
+                    "{count} readings exceed the server's limit of {} per request",
+                    self.max_batch_length
+                ),
+            )
+            .into());
+        }
+        let setup = wire::setup(request.setup.as_ref(), "setup", &self.engines)?;
+        let evaluator = self.evaluator(setup);
+        let readings: Vec<ReadingIn> = request.readings.into_iter().map(wire::reading).collect();
+        let compute = move || wire::evaluate_response(evaluator.evaluate_each(&readings));
+        let response = if count >= BLOCKING_READINGS {
+            tokio::task::spawn_blocking(compute)
+                .await
+                .map_err(|e| Status::internal(format!("evaluation worker failed: {e}")))?
+        } else {
+            compute()
+        };
+        Ok(Response::new(response))
+    }
+}

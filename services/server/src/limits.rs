@@ -1,0 +1,139 @@
+//! Admission control: how many calls the server works on at once, what happens to the rest, and
+//! how long one may take.
+//!
+//! At most `limits.max_concurrent_requests` calls run at once across all connections. A call
+//! arriving when every slot is taken is either refused at once with UNAVAILABLE
+//! (`limits.load_shedding = true`, the default: a client retries with backoff, or another
+//! replica takes it) or waits for a free slot until the request timeout
+//! (`limits.load_shedding = false`). A slot is held until the call's answer is ready; a stream
+//! holds it until its first message, so long-lived streams do not starve unary calls (streams
+//! are bounded per connection by `limits.max_concurrent_streams`).
+//!
+//! A call that takes longer than `limits.request_timeout_ms` (waiting for a slot included) is
+//! answered DEADLINE_EXCEEDED, naming the setting. (A deadline the client sets itself, with the
+//! `grpc-timeout` metadata, is enforced by tonic as well; the client then sees its own
+//! DEADLINE_EXCEEDED.)
+//!
+//! Health checks are exempt from both: a busy server must still answer its probes, or an
+//! orchestrator would restart a replica that is merely working hard; and a health watch is a
+//! long-lived stream.
+
+use std::future::Future;
+use std::pin::Pin;
+use std::sync::Arc;
+use std::task::{Context, Poll};
+use std::time::Duration;
+
+use tokio::sync::Semaphore;
+use tonic::Status;
+use tonic::body::Body;
+
+use crate::security::HEALTH_PATH_PREFIX;
+
+/// The admission limit, as a layer in front of every service.
+#[derive(Debug, Clone)]
+pub(crate) struct AdmissionLayer {
+    slots: Arc<Semaphore>,
+    limit: usize,
+    shed: bool,
+    timeout: Duration,
+}
+
+impl AdmissionLayer {
+    /// At most `limit` calls at once; `shed` refuses the rest instead of queueing them; each call
+    /// may take up to `timeout`.
+    pub(crate) fn new(limit: usize, shed: bool, timeout: Duration) -> AdmissionLayer {
+        AdmissionLayer {
+            slots: Arc::new(Semaphore::new(limit)),
+            limit,
+            shed,
+            timeout,
+        }
+    }
+}
+
+/// The answer to a call that ran out of time.
+fn deadline_exceeded(timeout: Duration) -> http::Response<Body> {
+    Status::deadline_exceeded(format!(
+        "the call took longer than the server's limit of {} ms (limits.request_timeout_ms)",
+        timeout.as_millis()
+    ))
+    .into_http()
+}
+
+impl<S> tower::Layer<S> for AdmissionLayer {
+    type Service = Admitted<S>;
+
+    fn layer(&self, inner: S) -> Admitted<S> {
+        Admitted {
+            inner,
+            layer: self.clone(),
+        }
+    }
+}
+
+/// A service behind the admission limit.
+#[derive(Debug, Clone)]
+pub(crate) struct Admitted<S> {
+    inner: S,
+    layer: AdmissionLayer,
+}
+
+impl<S> tower::Service<http::Request<Body>> for Admitted<S>
+where
+    S: tower::Service<http::Request<Body>, Response = http::Response<Body>>
+        + Clone
+        + Send
+        + 'static,
+    S::Future: Send + 'static,
+    S::Error: Send + 'static,
+{
+    type Response = http::Response<Body>;
+    type Error = S::Error;
+    type Future = Pin<Box<dyn Future<Output = Result<Self::Response, Self::Error>> + Send>>;
+
+    fn poll_ready(&mut self, cx: &mut Context<'_>) -> Poll<Result<(), Self::Error>> {
+        self.inner.poll_ready(cx)
+    }
+
+    fn call(&mut self, request: http::Request<Body>) -> Self::Future {
+        if request.uri().path().starts_with(HEALTH_PATH_PREFIX) {
+            return Box::pin(self.inner.call(request));
+        }
+        let slots = Arc::clone(&self.layer.slots);
+        let timeout = self.layer.timeout;
+        if self.layer.shed {
+            let Ok(slot) = slots.try_acquire_owned() else {
+                crate::metrics::record_shed();
+                let status = Status::unavailable(format!(
+                    "server busy: {} calls in progress, the limit \
+                     (limits.max_concurrent_requests); retry with backoff",
+                    self.layer.limit
+                ));
+                return Box::pin(std::future::ready(Ok(status.into_http())));
+            };
+            let answer = self.inner.call(request);
+            return Box::pin(async move {
+                let response = tokio::time::timeout(timeout, answer).await;
+                drop(slot);
+                response.unwrap_or_else(|_| Ok(deadline_exceeded(timeout)))
+            });
+        }
+        // Queue for a slot; the wait counts against the timeout.
+        let inner = self.inner.clone();
+        let mut inner = std::mem::replace(&mut self.inner, inner);
+        Box::pin(async move {
+            let admitted = tokio::time::timeout(timeout, async move {
+                let Ok(slot) = slots.acquire_owned().await else {
+                    return Ok(Status::unavailable("server is shutting down").into_http());
+                };
+                let response = inner.call(request).await;
+                drop(slot);
+                response
+            });
+            admitted
+                .await
+                .unwrap_or_else(|_| Ok(deadline_exceeded(timeout)))
+        })
+    }
+}

@@ -1,0 +1,737 @@
+//! `binodal.v1.AlarmService` through the tonic client: deadband and delays on a scripted reading
+//! sequence, margins against GetState, bad readings, stale tags, server-configured rules, the
+//! unary form, and streams across the request timeout and shutdown.
+//!
+//! Scripted values (subcoolings, times) are the scripts' own inputs; the expected events follow
+//! from the definitions of limit, deadband, on-delay and off-delay (IEC 62682 / ANSI/ISA-18.2, as
+//! stated in `services/server/src/alarms/machine.rs`). Margins are checked against the service's
+//! own GetState on the same absolute temperature and pressure.
+
+use std::time::Duration;
+
+use binodal_eos::{Model, ReferenceState};
+use binodal_proto::v1 as pb;
+use binodal_proto::v1::alarm_service_client::AlarmServiceClient;
+use binodal_server::alarms::config::{TagPattern, TagRules};
+use binodal_server::alarms::machine::{Bound, Limits};
+use binodal_server::alarms::rules::{Priority, RuleKind, RuleSpec};
+use binodal_server::settings::Settings;
+use tokio::sync::mpsc;
+use tokio_stream::wrappers::ReceiverStream;
+use tonic::{Code, Streaming};
+
+use super::{assert_same, engine, fluid, phase_client};
+use crate::util::{STOP_GUARD, TestServer};
+
+/// 2026-01-15T06:00:00Z in milliseconds since the Unix epoch (the scripts' start time).
+const T0: i64 = 1_768_456_800_000;
+/// Seconds to milliseconds.
+const S: i64 = 1000;
+
+/// An open alarm stream: requests go in through a channel, responses come back in order.
+struct Watch {
+    requests: mpsc::Sender<pb::WatchRequest>,
+    responses: Streaming<pb::WatchResponse>,
+}
+
+impl Watch {
+    async fn open(server: &TestServer, opening: Option<pb::WatchOpening>) -> Watch {
+        let (requests, receiver) = mpsc::channel(16);
+        let mut client = AlarmServiceClient::new(server.channel().await);
+        requests
+            .send(pb::WatchRequest {
+                opening,
+                readings: Vec::new(),
+            })
+            .await
+            .expect("queue the opening");
+        let responses = client
+            .watch_readings(ReceiverStream::new(receiver))
+            .await
+            .expect("the stream opens")
+            .into_inner();
+        let mut watch = Watch {
+            requests,
+            responses,
+        };
+        watch.next().await.expect("the opening is accepted");
+        watch
+    }
+
+    /// The next response, or the status that ended the stream.
+    async fn next(&mut self) -> Result<pb::WatchResponse, tonic::Status> {
+        tokio::time::timeout(STOP_GUARD, self.responses.message())
+            .await
+            .expect("a response within the guard time")
+            .map(|response| response.expect("the stream is still open"))
+    }
+
+    /// Sends one request with `readings` and returns its response.
+    async fn send(&mut self, readings: Vec<pb::Reading>) -> pb::WatchResponse {
+        let count = readings.len();
+        self.requests
+            .send(pb::WatchRequest {
+                opening: None,
+                readings,
+            })
+            .await
+            .expect("the stream accepts requests");
+        let response = self.next().await.expect("a response, not an error");
+        assert_eq!(response.outcomes.len(), count, "one outcome per reading");
+        response
+    }
+}
+
+/// A good absolute reading of `tag` at `seconds` after [`T0`].
+fn reading(
+    tag: &str,
+    name: &str,
+    seconds: i64,
+    temperature_k: f64,
+    pressure_pa: f64,
+) -> pb::Reading {
+    pb::Reading {
+        tag: tag.to_owned(),
+        fluid: fluid(name),
+        pressure_pa: Some(pressure_pa),
+        pressure_kind: pb::PressureKind::Absolute as i32,
+        ambient_pressure_pa: None,
+        temperature_k: Some(temperature_k),
+        timestamp_unix_ms: Some(T0 + seconds * S),
+        quality: pb::ReadingQuality::Good as i32,
+    }
+}
+
+fn rule(
+    kind: pb::AlarmRuleKind,
+    limit: f64,
+    deadband: f64,
+    on_s: f64,
+    off_s: f64,
+) -> pb::AlarmRule {
+    pb::AlarmRule {
+        kind: kind as i32,
+        name: String::new(),
+        limit: Some(limit),
+        deadband: Some(deadband),
+        on_delay_s: Some(on_s),
+        off_delay_s: Some(off_s),
+        priority: pb::AlarmPriority::Unspecified as i32,
+    }
+}
+
+fn opening(tag: &str, rules: Vec<pb::AlarmRule>) -> pb::WatchOpening {
+    pb::WatchOpening {
+        tags: vec![pb::TagSetup {
+            tag: tag.to_owned(),
+            fluid: None,
+            rules,
+        }],
+        ..Default::default()
+    }
+}
+
+fn kind_of(event: &pb::AlarmEvent) -> pb::AlarmEventKind {
+    pb::AlarmEventKind::try_from(event.kind).expect("known event kind")
+}
+
+/// Alarm events (raised or cleared) of a response's outcomes, as (seconds after T0, event).
+fn alarm_events(response: &pb::WatchResponse) -> Vec<(i64, pb::AlarmEvent)> {
+    response
+        .outcomes
+        .iter()
+        .flat_map(|o| o.events.iter())
+        .filter(|e| {
+            matches!(
+                kind_of(e),
+                pb::AlarmEventKind::Raised | pb::AlarmEventKind::Cleared
+            )
+        })
+        .map(|e| {
+            (
+                (e.timestamp_unix_ms.expect("alarm events are timed") - T0) / S,
+                e.clone(),
+            )
+        })
+        .collect()
+}
+
+/// The issue's scripted sequence on the ammonia pump suction NH3-P101: subcooling crossing the
+/// 3 K limit, hovering inside the 1 K deadband, and leaving it, one reading a second, sent in
+/// several requests of different sizes. Exactly one raise (15 s after the crossing) and one clear
+/// (15 s after the last entry past the deadband) come out, at those reading times.
+#[tokio::test]
+async fn deadband_and_delays_give_exactly_the_expected_events() {
+    let server = TestServer::start().await;
+    let mut watch = Watch::open(
+        &server,
+        Some(opening(
+            "NH3-P101",
+            vec![rule(
+                pb::AlarmRuleKind::MinimumSubcooling,
+                3.0,
+                1.0,
+                15.0,
+                15.0,
+            )],
+        )),
+    )
+    .await;
+    // Suction at 2 bar absolute; the temperature is set from the engine's own saturation
+    // temperature so that the subcooling is the script's value.
+    let pressure = 2.0e5;
+    let tsat = engine(
+        "R-717",
+        Model::PengRobinson1978,
+        ReferenceState::LiquidAtZeroCelsius,
+    )
+    .saturation_temperature(pressure)
+    .expect("ammonia saturates at 2 bar");
+    let mut script: Vec<(i64, f64)> = (0..=4).map(|t| (t, 5.0)).collect();
+    script.extend((5..=25).map(|t| (t, 2.5))); // beyond the limit from t = 5 s
+    script.extend([(26, 3.5), (27, 3.9), (28, 3.2), (29, 3.8)]); // inside the deadband
+    script.extend((30..=40).map(|t| (t, 4.2))); // past the deadband from t = 30 s
+    script.push((41, 3.8)); // back inside the deadband: the off-delay restarts
+    script.extend((42..=60).map(|t| (t, 4.5))); // past the deadband from t = 42 s
+    let readings: Vec<pb::Reading> = script
+        .iter()
+        .map(|&(t, subcooling)| reading("NH3-P101", "R-717", t, tsat - subcooling, pressure))
+        .collect();
+
+    let mut events = Vec::new();
+    let mut sent = 0;
+    for size in [1, 1, 3, 10, 7, 19, 20] {
+        let chunk: Vec<pb::Reading> = readings[sent..sent + size].to_vec();
+        sent += size;
+        let response = watch.send(chunk).await;
+        for outcome in &response.outcomes {
+            assert!(outcome.evaluated, "{outcome:?}");
+            assert_eq!(outcome.fluid_id, "ammonia");
+            assert_eq!(outcome.phase, pb::Phase::SubcooledLiquid as i32);
+        }
+        events.extend(alarm_events(&response));
+    }
+    assert_eq!(sent, readings.len());
+
+    assert_eq!(
+        events.len(),
+        2,
+        "exactly one raise and one clear: {events:#?}"
+    );
+    let (raised_at, raised) = &events[0];
+    assert_eq!(*raised_at, 20);
+    assert_eq!(kind_of(raised), pb::AlarmEventKind::Raised);
+    assert_eq!(raised.condition_since_unix_ms, Some(T0 + 5 * S));
+    assert!(
+        (raised.value.expect("value") - 2.5).abs() < 1e-6,
+        "{raised:?}"
+    );
+    assert_eq!(raised.limit, Some(3.0));
+    assert_eq!(raised.transition, pb::AlarmTransition::Boiling as i32);
+    assert_eq!(raised.priority, pb::AlarmPriority::High as i32);
+    assert!(raised.message.contains("boiling"), "{}", raised.message);
+    assert!(raised.message.contains("NH3-P101"), "{}", raised.message);
+    let (cleared_at, cleared) = &events[1];
+    assert_eq!(*cleared_at, 57);
+    assert_eq!(kind_of(cleared), pb::AlarmEventKind::Cleared);
+    assert_eq!(cleared.condition_since_unix_ms, Some(T0 + 42 * S));
+    assert_eq!(cleared.limit, Some(4.0), "the limit moved by the deadband");
+    server.stop().await;
+}
+
+/// Margins through the stream equal GetState's for the same absolute state: a subcooled ammonia
+/// liquid, a superheated carbon dioxide suction, chilled water, a supercritical carbon dioxide
+/// gas cooler, and a gauge reading converted with the opening's ambient pressure.
+#[tokio::test]
+async fn stream_margins_agree_with_get_state() {
+    let server = TestServer::start().await;
+    let mut phase = phase_client(&server).await;
+    let ambient = 100_300.0;
+    let mut watch = Watch::open(
+        &server,
+        Some(pb::WatchOpening {
+            ambient_pressure_pa: Some(ambient),
+            ..Default::default()
+        }),
+    )
+    .await;
+    // (tag, fluid, T in K, P in Pa absolute)
+    let cases = [
+        ("NH3-P101", "R-717", 250.0, 3.0e5),
+        ("CO2-RK2-SUC", "R-744", 250.0, 1.4e6),
+        ("CH-2-CHWL", "water", 279.15, 3.0e5),
+        ("CO2-RK2-GC", "R-744", 313.15, 9.0e6),
+    ];
+    let mut readings: Vec<pb::Reading> = cases
+        .iter()
+        .map(|&(tag, name, t, p)| reading(tag, name, 0, t, p))
+        .collect();
+    // The same CO2 suction state given as a gauge reading.
+    let mut gauge = reading("CO2-RK2-SUC-G", "R-744", 0, 250.0, 1.4e6 - ambient);
+    gauge.pressure_kind = pb::PressureKind::Gauge as i32;
+    readings.push(gauge);
+    let response = watch.send(readings).await;
+
+    let mut expected = cases.to_vec();
+    expected.push(("CO2-RK2-SUC-G", "R-744", 250.0, 1.4e6));
+    for (outcome, &(tag, name, t, p)) in response.outcomes.iter().zip(&expected) {
+        assert_eq!(outcome.tag, tag);
+        assert!(outcome.evaluated, "{outcome:?}");
+        let state = phase
+            .get_state(pb::GetStateRequest {
+                fluid: fluid(name),
+                temperature_k: t,
+                pressure_pa: p,
+                ..Default::default()
+            })
+            .await
+            .expect("GetState answers")
+            .into_inner();
+        let m = outcome.margins.as_ref().expect("margins");
+        let s = state.margins.as_ref().expect("GetState margins");
+        assert_eq!(outcome.phase, state.phase, "{tag}");
+        assert_same(
+            &format!("{tag} pressure"),
+            outcome.absolute_pressure_pa.unwrap(),
+            p,
+        );
+        let pairs = [
+            ("subcooling", m.subcooling_k, s.subcooling_k),
+            ("superheat", m.superheat_k, s.superheat_k),
+            ("dew margin", m.dew_margin_k, s.superheat_k),
+            (
+                "Tsat",
+                m.saturation_temperature_k,
+                s.saturation_temperature_k,
+            ),
+            ("Psat", m.saturation_pressure_pa, s.saturation_pressure_pa),
+            ("freezing", m.freezing_margin_k, s.freezing_margin_k),
+        ];
+        for (what, stream, state) in pairs {
+            assert_eq!(stream.is_some(), state.is_some(), "{tag} {what}");
+            if let (Some(a), Some(b)) = (stream, state) {
+                assert_same(&format!("{tag} {what}"), a, b);
+            }
+        }
+        assert_same(
+            &format!("{tag} P/Pc"),
+            m.critical_pressure_fraction,
+            state.reduced_pressure,
+        );
+        assert_eq!(outcome.near_critical, state.near_critical, "{tag}");
+        assert_eq!(outcome.estimated, state.estimated, "{tag}");
+    }
+    let gauge = &response.outcomes[4];
+    assert_eq!(gauge.ambient_pressure_pa, Some(ambient));
+    assert_eq!(gauge.ambient_source, pb::AmbientSource::Opening as i32);
+    server.stop().await;
+}
+
+/// Every kind of bad reading is answered with its documented quality event, never a phase alarm;
+/// the stream keeps going and the server keeps answering.
+#[tokio::test]
+async fn bad_readings_get_quality_events_and_never_end_the_stream() {
+    let server = TestServer::start().await;
+    // A rule that would alarm at once on any evaluated reading (subcooling limit far above any
+    // state here, no delays), so that a phase alarm from a bad reading could not hide.
+    let mut watch = Watch::open(
+        &server,
+        Some(pb::WatchOpening {
+            default_rules: vec![rule(
+                pb::AlarmRuleKind::MinimumSubcooling,
+                150.0,
+                0.0,
+                0.0,
+                0.0,
+            )],
+            ..Default::default()
+        }),
+    )
+    .await;
+    let good = |t: i64| reading("NH3-P101", "R-717", t, 250.0, 3.0e5);
+    use pb::QualityIssue as Q;
+    let mut cases: Vec<(pb::Reading, Vec<Q>)> = Vec::new();
+    cases.push((good(10), vec![])); // establishes the tag's time and fluid
+    let mut r = good(11);
+    r.temperature_k = Some(f64::NAN);
+    cases.push((r, vec![Q::TemperatureInvalid]));
+    let mut r = good(12);
+    r.pressure_pa = None;
+    cases.push((r, vec![Q::PressureMissing]));
+    let mut r = good(13);
+    r.pressure_kind = pb::PressureKind::Unspecified as i32;
+    cases.push((r, vec![Q::PressureKindMissing]));
+    let mut r = good(14);
+    r.pressure_pa = None;
+    r.temperature_k = None;
+    cases.push((r, vec![Q::PressureMissing, Q::TemperatureMissing]));
+    cases.push((good(9), vec![Q::TimestampOutOfOrder])); // timestamp going back
+    cases.push((good(14), vec![Q::DuplicateTimestamp]));
+    let mut r = good(15);
+    r.timestamp_unix_ms = None;
+    cases.push((r, vec![Q::TimestampMissing]));
+    let mut r = good(16);
+    r.quality = pb::ReadingQuality::Bad as i32;
+    cases.push((r, vec![Q::BadQualityFlag]));
+    let mut r = good(17);
+    r.fluid = fluid("R-134a");
+    cases.push((r, vec![Q::FluidChanged]));
+    let mut r = good(18);
+    r.pressure_kind = pb::PressureKind::Gauge as i32;
+    r.pressure_pa = Some(-2.0e5); // below vacuum with any ambient
+    cases.push((r, vec![Q::PressureInvalid]));
+    let mut r = good(19);
+    r.pressure_kind = pb::PressureKind::Gauge as i32;
+    r.ambient_pressure_pa = Some(5.0);
+    cases.push((r, vec![Q::AmbientInvalid]));
+    let mut r = good(20);
+    r.temperature_k = Some(5000.0); // above the model's range for ammonia
+    cases.push((r, vec![Q::OutOfModelRange]));
+    let mut r = reading("LPG-V1", "no-such-fluid", 20, 300.0, 5.0e5);
+    r.fluid = fluid("propanne");
+    cases.push((r, vec![Q::FluidUnknown]));
+    let mut r = reading("MIX-1", "R-717", 20, 300.0, 5.0e5);
+    r.fluid = Some(pb::FluidSelector {
+        choice: Some(pb::fluid_selector::Choice::Mixture(pb::Mixture {
+            components: vec![
+                pb::MixtureComponent {
+                    fluid: "R-32".into(),
+                    fraction: 0.5,
+                },
+                pb::MixtureComponent {
+                    fluid: "R-125".into(),
+                    fraction: 0.5,
+                },
+            ],
+            fraction_basis: pb::FractionBasis::Mass as i32,
+        })),
+    });
+    cases.push((r, vec![Q::MixtureNotAvailable]));
+    let mut r = reading("NO-FLUID", "R-717", 20, 300.0, 5.0e5);
+    r.fluid = None;
+    cases.push((r, vec![Q::FluidMissing]));
+    cases.push((reading("", "R-717", 20, 250.0, 3.0e5), vec![Q::TagMissing]));
+    let mut r = good(21);
+    r.quality = pb::ReadingQuality::Uncertain as i32;
+    cases.push((r, vec![Q::UncertainQualityFlag])); // evaluated all the same
+    cases.push((good(22), vec![])); // the stream still evaluates
+
+    // One reading per request, so that each response belongs to one case.
+    for (index, (reading, expected)) in cases.into_iter().enumerate() {
+        let response = watch.send(vec![reading]).await;
+        let outcome = &response.outcomes[0];
+        let quality: Vec<Q> = outcome
+            .events
+            .iter()
+            .filter(|e| kind_of(e) == pb::AlarmEventKind::Quality)
+            .map(|e| Q::try_from(e.quality_issue).expect("known issue"))
+            .collect();
+        assert_eq!(quality, expected, "case {index}: {outcome:#?}");
+        for event in outcome
+            .events
+            .iter()
+            .filter(|e| kind_of(e) == pb::AlarmEventKind::Quality)
+        {
+            assert!(
+                !event.message.is_empty(),
+                "case {index}: quality events say why"
+            );
+        }
+        let evaluated = expected.is_empty() || expected == [Q::UncertainQualityFlag];
+        assert_eq!(outcome.evaluated, evaluated, "case {index}: {outcome:#?}");
+        let alarms = alarm_events(&response);
+        if !evaluated {
+            assert!(
+                alarms.is_empty(),
+                "case {index}: a bad reading raised {alarms:?}"
+            );
+        }
+        if index == 0 {
+            assert_eq!(
+                alarms.len(),
+                1,
+                "the first good reading raises the test rule"
+            );
+        }
+    }
+    let mut phase = phase_client(&server).await;
+    phase
+        .get_state(pb::GetStateRequest {
+            fluid: fluid("R-717"),
+            temperature_k: 250.0,
+            pressure_pa: 3.0e5,
+            ..Default::default()
+        })
+        .await
+        .expect("the server still answers");
+    server.stop().await;
+}
+
+/// The quality messages name the field and what is valid (rule 4 of the brief).
+#[tokio::test]
+async fn quality_messages_name_the_field() {
+    let server = TestServer::start().await;
+    let mut watch = Watch::open(&server, None).await;
+    let mut missing_kind = reading("NH3-P101", "R-717", 0, 250.0, 3.0e5);
+    missing_kind.pressure_kind = pb::PressureKind::Unspecified as i32;
+    let mut bad_ambient = reading("NH3-P102", "R-717", 0, 250.0, 3.0e5);
+    bad_ambient.pressure_kind = pb::PressureKind::Gauge as i32;
+    bad_ambient.ambient_pressure_pa = Some(5.0);
+    let response = watch.send(vec![missing_kind, bad_ambient]).await;
+    let message = |i: usize| response.outcomes[i].events[0].message.clone();
+    assert!(message(0).contains("pressure_kind"), "{}", message(0));
+    assert!(message(0).contains("gauge flag missing"), "{}", message(0));
+    assert!(message(1).contains("ambient_pressure_pa"), "{}", message(1));
+    assert!(message(1).contains("20000 to 130000 Pa"), "{}", message(1));
+    server.stop().await;
+}
+
+/// A tag that stops sending is reported stale once the stream clock (other tags' readings) passes
+/// the stale time, and resumes when it sends again. Gauge readings without an ambient use the
+/// server default, which the stream states.
+#[tokio::test]
+async fn stale_tags_are_reported_and_resume() {
+    let server = TestServer::start().await;
+    let mut watch = Watch::open(
+        &server,
+        Some(pb::WatchOpening {
+            stale_after_s: Some(5.0),
+            ..Default::default()
+        }),
+    )
+    .await;
+    let gauge = |tag: &str, t: i64| {
+        let mut r = reading(tag, "R-744", t, 250.0, 1.3e6);
+        r.pressure_kind = pb::PressureKind::Gauge as i32;
+        r
+    };
+    let first = watch
+        .send(vec![gauge("CO2-RK2-SUC", 0), gauge("CO2-RK2-LT", 0)])
+        .await;
+    assert!(
+        first
+            .events
+            .iter()
+            .any(|e| kind_of(e) == pb::AlarmEventKind::Notice && e.message.contains("101325")),
+        "the default ambient is stated: {:#?}",
+        first.events
+    );
+    assert!(
+        first.events.iter().any(|e| e.message.contains("advisory")),
+        "the stream opens with the advisory notice"
+    );
+    assert_eq!(
+        first.outcomes[0].ambient_source,
+        pb::AmbientSource::ServerDefault as i32
+    );
+    let mut stale_at = None;
+    for t in 1..=8 {
+        let response = watch.send(vec![gauge("CO2-RK2-SUC", t)]).await;
+        for event in &response.events {
+            if kind_of(event) == pb::AlarmEventKind::TagStale {
+                assert_eq!(event.tag, "CO2-RK2-LT");
+                assert!(stale_at.is_none(), "stale is reported once");
+                stale_at = Some(t);
+            }
+        }
+    }
+    // Silent since t = 0 with a 5 s stale time: stale once the clock passes 5 s.
+    assert_eq!(stale_at, Some(6));
+    let back = watch.send(vec![gauge("CO2-RK2-LT", 9)]).await;
+    assert!(
+        back.outcomes[0]
+            .events
+            .iter()
+            .any(|e| kind_of(e) == pb::AlarmEventKind::TagResumed),
+        "{:#?}",
+        back.outcomes[0]
+    );
+    server.stop().await;
+}
+
+/// An opening with a rule out of range ends the stream with INVALID_ARGUMENT naming the field.
+#[tokio::test]
+async fn an_invalid_opening_is_refused_with_the_field_named() {
+    let server = TestServer::start().await;
+    let (requests, receiver) = mpsc::channel(4);
+    let mut client = AlarmServiceClient::new(server.channel().await);
+    requests
+        .send(pb::WatchRequest {
+            opening: Some(opening(
+                "NH3-P101",
+                vec![rule(
+                    pb::AlarmRuleKind::MinimumSubcooling,
+                    3.0,
+                    -1.0,
+                    15.0,
+                    15.0,
+                )],
+            )),
+            readings: Vec::new(),
+        })
+        .await
+        .expect("queue the opening");
+    let mut responses = client
+        .watch_readings(ReceiverStream::new(receiver))
+        .await
+        .expect("the stream opens")
+        .into_inner();
+    let status = tokio::time::timeout(STOP_GUARD, responses.message())
+        .await
+        .expect("an answer")
+        .expect_err("the opening is refused");
+    assert_eq!(status.code(), Code::InvalidArgument);
+    assert!(
+        status
+            .message()
+            .contains("opening.tags[0].rules[0].deadband"),
+        "{status:?}"
+    );
+    assert!(status.message().contains("0 to 50 K"), "{status:?}");
+    drop(requests);
+    server.stop().await;
+}
+
+fn settings_rule(kind: RuleKind, limit: f64) -> RuleSpec {
+    RuleSpec {
+        kind,
+        name: kind.name().to_owned(),
+        limits: Limits {
+            bound: Bound::Minimum,
+            limit,
+            deadband: 0.5,
+            on_delay_ms: 0,
+            off_delay_ms: 0,
+        },
+        priority: Priority::High,
+    }
+}
+
+/// Rules and fluid from the server's settings apply to a stream without an opening: chilled water
+/// of the Kestrel Lane office chiller CH-2 at 3 bar and 1.5 °C is within 2.5 K of freezing (ice
+/// melts at 273.15 K at atmospheric pressure, slightly lower at 3 bar: IAPWS R14-08 melting
+/// curve, from memory), and carbon dioxide vapor at 3 bar and 215 K, below its triple-point
+/// pressure of 0.518 MPa (NIST Chemistry WebBook), lies within 10 K of its sublimation
+/// temperature at that pressure (about 209 K by Clausius-Clapeyron from the triple point, the
+/// engine's own estimate), at risk of deposition.
+#[tokio::test]
+async fn settings_rules_apply_and_name_freezing_or_deposition() {
+    let mut settings = Settings::default();
+    settings.alarms.tags = vec![
+        TagRules {
+            pattern: TagPattern::Prefix("CH-2-".to_owned()),
+            fluid: Some("water".to_owned()),
+            rules: vec![settings_rule(RuleKind::MinimumFreezingMargin, 2.5)],
+        },
+        TagRules {
+            pattern: TagPattern::Exact("CO2-RK2-VENT".to_owned()),
+            fluid: Some("R-744".to_owned()),
+            rules: vec![settings_rule(RuleKind::MinimumFreezingMargin, 10.0)],
+        },
+    ];
+    let server = TestServer::start_with(settings).await;
+    let mut watch = Watch::open(&server, None).await;
+    let mut water = reading("CH-2-CHWL", "water", 0, 274.65, 3.0e5);
+    water.fluid = None; // the settings name the fluid
+    let mut vent = reading("CO2-RK2-VENT", "R-744", 0, 215.0, 3.0e5);
+    vent.fluid = None;
+    let response = watch.send(vec![water, vent]).await;
+    let events = alarm_events(&response);
+    assert_eq!(events.len(), 2, "{events:#?}");
+    assert_eq!(events[0].1.tag, "CH-2-CHWL");
+    assert_eq!(events[0].1.transition, pb::AlarmTransition::Freezing as i32);
+    assert_eq!(events[1].1.tag, "CO2-RK2-VENT");
+    assert_eq!(
+        events[1].1.transition,
+        pb::AlarmTransition::Deposition as i32
+    );
+    assert!(
+        events[1].1.message.contains("deposition"),
+        "{}",
+        events[1].1.message
+    );
+    server.stop().await;
+}
+
+/// The unary form judges each reading on its own: a subcooling beyond the limit is flagged with
+/// its transition, without delays; a bad reading gets its quality event; the answer opens with
+/// the advisory notice and the fluid's caution.
+#[tokio::test]
+async fn evaluate_readings_judges_each_reading_without_state() {
+    let server = TestServer::start().await;
+    let mut client = AlarmServiceClient::new(server.channel().await);
+    let tsat = engine(
+        "R-717",
+        Model::PengRobinson1978,
+        ReferenceState::LiquidAtZeroCelsius,
+    )
+    .saturation_temperature(2.0e5)
+    .expect("ammonia saturates at 2 bar");
+    let mut bad = reading("NH3-P101", "R-717", 1, tsat - 1.0, 2.0e5);
+    bad.pressure_kind = pb::PressureKind::Unspecified as i32;
+    let request = pb::EvaluateReadingsRequest {
+        setup: Some(opening(
+            "NH3-P101",
+            vec![rule(
+                pb::AlarmRuleKind::MinimumSubcooling,
+                3.0,
+                1.0,
+                15.0,
+                15.0,
+            )],
+        )),
+        readings: vec![
+            reading("NH3-P101", "R-717", 0, tsat - 1.0, 2.0e5),
+            reading("NH3-P101", "R-717", 0, tsat - 6.0, 2.0e5),
+            bad,
+        ],
+    };
+    let answer = client
+        .evaluate_readings(request)
+        .await
+        .expect("evaluation answers")
+        .into_inner();
+    assert_eq!(answer.outcomes.len(), 3);
+    let beyond = &answer.outcomes[0].checks[0];
+    assert!(beyond.beyond_limit, "{beyond:?}");
+    assert_eq!(beyond.transition, pb::AlarmTransition::Boiling as i32);
+    assert!((beyond.value.expect("value") - 1.0).abs() < 1e-6);
+    assert!(!answer.outcomes[1].checks[0].beyond_limit);
+    assert!(!answer.outcomes[2].evaluated);
+    assert_eq!(
+        answer.outcomes[2].events[0].quality_issue,
+        pb::QualityIssue::PressureKindMissing as i32
+    );
+    assert!(answer.events[0].message.contains("advisory"));
+    assert!(
+        answer.events.iter().any(|e| e.message.contains("B2L")),
+        "ammonia's safety class B2L (ASHRAE 34, as in the catalogue) is in its caution: {:#?}",
+        answer.events
+    );
+    server.stop().await;
+}
+
+/// A stream outlives the server's request timeout (it limits calls, not stream lifetimes), and
+/// ends with UNAVAILABLE when the server shuts down, so that shutdown does not wait for it.
+#[tokio::test]
+async fn streams_outlive_the_request_timeout_and_end_on_shutdown() {
+    let mut settings = Settings::default();
+    settings.limits.request_timeout = Duration::from_millis(300);
+    let mut server = TestServer::start_with(settings).await;
+    let mut watch = Watch::open(&server, None).await;
+    watch
+        .send(vec![reading("NH3-P101", "R-717", 0, 250.0, 3.0e5)])
+        .await;
+    // Three times the request timeout between two readings.
+    tokio::time::sleep(Duration::from_millis(900)).await;
+    let later = watch
+        .send(vec![reading("NH3-P101", "R-717", 1, 250.0, 3.0e5)])
+        .await;
+    assert!(later.outcomes[0].evaluated);
+    server.begin_shutdown();
+    let status = watch.next().await.expect_err("shutdown ends the stream");
+    assert_eq!(status.code(), Code::Unavailable, "{status:?}");
+    assert!(status.message().contains("shutting down"), "{status:?}");
+    drop(watch);
+    server.stop().await;
+}
