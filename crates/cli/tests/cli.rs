@@ -748,3 +748,27 @@ fn completions_and_help() {
     assert!(help.contains("Harrowgate Cold Store"), "{help}");
     assert!(help.contains("NH3-P101"), "{help}");
 }
+
+#[test]
+fn blend_superheat_and_subcooling_use_the_dew_and_bubble_points() {
+    // Harrowgate Cold Store, a chiller loop on R-407C (zeotropic): superheat is read against
+    // the dew point and subcooling against the bubble point (the practice of the trade for
+    // blends with glide, common practice). The two points differ by the glide, several
+    // kelvin for R-407C (common practice), so the two answers must use different points.
+    let suction = run(&[
+        "superheat", "R-407C", "--pressure", "4barg", "--temperature", "10C", "--output", "json",
+    ])
+    .json();
+    assert_eq!(suction["saturation_point"], "dew");
+    let liquid = run(&[
+        "subcooling", "R-407C", "--pressure", "4barg", "--temperature", "-10C", "--output", "json",
+    ])
+    .json();
+    assert_eq!(liquid["saturation_point"], "bubble");
+    let dew = number(&suction, "saturation_temperature_k");
+    let bubble = number(&liquid, "saturation_temperature_k");
+    let glide = dew - bubble;
+    assert!((4.0..8.0).contains(&glide), "R-407C glide at 4 bar(g): {glide} K");
+    let line_k = 10.0 + CELSIUS_ZERO_K;
+    assert!((number(&suction, "superheat_k") - (line_k - dew)).abs() < 1e-9);
+}

@@ -55,7 +55,7 @@ pub use classify::{Margins, Phase, SATURATION_TOLERANCE, SolidBoundary, State};
 pub use cubic::{CubicRoots, solve_cubic};
 pub use curve::{
     CURVE_BUILD_TARGET, CURVE_CRITICAL_BAND, CURVE_DEGREE, CURVE_TOLERANCE, CurveReport,
-    PhaseBoundary, PureSaturationLine, SaturationCurve, SolvePath, clenshaw,
+    PhaseBoundary, PureSaturationLine, SaturationCurve, SolvePath, clenshaw, estrin,
 };
 pub use eos::{PhaseProperties, PureEos, ReferenceState};
 pub use error::{Error, ErrorKind};

@@ -566,7 +566,19 @@ impl Mixture {
         // Bracket around the Wilson (1968) estimate, widening in steps of 2 % of the range.
         let estimate = self.wilson_temperature(p, bubble, t_min, t_max);
         let step = 0.02 * (t_max - t_min);
-        let below = |t: f64| self.boundary_pressure(t, bubble).map(|pt| pt.pressure_pa < p);
+        let envelope_end = |_| {
+            Error::outside_envelope(
+                "pressure_pa",
+                p,
+                format!(
+                    "above the mixture's two-phase region: valid from {p_low} Pa up to the \
+                     mixture's critical region"
+                ),
+            )
+        };
+        let below = |t: f64| {
+            self.boundary_pressure(t, bubble).map(|pt| pt.pressure_pa < p).map_err(envelope_end)
+        };
         let mut lo = (estimate - step).max(t_min);
         while !below(lo)? {
             if lo <= t_min {
@@ -582,7 +594,7 @@ impl Mixture {
                 _ => {
                     // The boundary ends (mixture critical region) before reaching p: find
                     // how far it goes for the message.
-                    let p_top = self.boundary_pressure(lo, bubble)?.pressure_pa;
+                    let p_top = self.boundary_pressure(lo, bubble).map_err(envelope_end)?.pressure_pa;
                     return Err(Error::outside_envelope(
                         "pressure_pa",
                         p,

@@ -2,7 +2,7 @@
 //! results out. Nothing else in the server builds or reads a `binodal_proto` message field
 //! by field.
 
-use binodal_eos::{Model, Phase, PhaseProperties, ReferenceState, Saturation, State};
+use binodal_eos::{Model, Phase, PhaseProperties, ReferenceState, Saturation, SolvePath, State};
 use binodal_fluids::{AccuracyRecord, FluidRecord, SafetyClass};
 use binodal_proto::v1 as pb;
 
@@ -147,6 +147,14 @@ fn reference_to_proto(reference: Option<ReferenceState>) -> pb::ReferenceState {
     }
 }
 
+/// The proto value of the path that produced a pure-fluid result.
+pub fn path_to_proto(path: SolvePath) -> pb::ComputationPath {
+    match path {
+        SolvePath::Curve => pb::ComputationPath::PrecomputedCurve,
+        SolvePath::FullSolve => pb::ComputationPath::FullSolve,
+    }
+}
+
 /// The proto value of a phase.
 pub fn phase_to_proto(phase: Phase) -> pb::Phase {
     match phase {
@@ -177,9 +185,98 @@ fn safety_class_to_proto(class: Option<SafetyClass>) -> pb::SafetyClass {
     }
 }
 
-/// The catalogue's safety class for a proto value, `None` for not classified.
+/// Whether a fluid's safety class is the proto value `wanted`.
 pub fn safety_class_matches(record: &FluidRecord, wanted: i32) -> bool {
-    safety_class_to_proto(record.safety_class) as i32 == wanted
+    class_matches(record.safety_class, wanted)
+}
+
+/// Whether a safety class (`None`: not classified) is the proto value `wanted`.
+pub fn class_matches(class: Option<SafetyClass>, wanted: i32) -> bool {
+    safety_class_to_proto(class) as i32 == wanted
+}
+
+/// A listing entry for a blend.
+pub fn blend_summary(blend: &binodal_fluids::BlendRecord, catalogue: &binodal_fluids::Catalogue) -> pb::FluidSummary {
+    pb::FluidSummary {
+        fluid_id: blend.id.clone(),
+        display_name: blend.name.clone(),
+        ashrae_number: blend.ashrae_number.clone().unwrap_or_default(),
+        chemical_name: blend_composition_text(blend, catalogue),
+        safety_class: safety_class_to_proto(blend.safety_class) as i32,
+        kind: pb::FluidKind::Blend as i32,
+    }
+}
+
+fn blend_composition_text(blend: &binodal_fluids::BlendRecord, catalogue: &binodal_fluids::Catalogue) -> String {
+    let parts = catalogue.blend_components(blend);
+    let names: Vec<&str> = parts.iter().map(|(f, _)| f.name.as_str()).collect();
+    let shares: Vec<String> = parts.iter().map(|(_, w)| format!("{}", (w * 1000.0).round() / 10.0)).collect();
+    format!("{} ({} % by mass)", names.join("/"), shares.join("/"))
+}
+
+/// A full description of a blend. Its critical temperature and pressure are the
+/// pseudo-critical values (Kay's rule), as the sources list says.
+pub fn blend_description(
+    blend: &binodal_fluids::BlendRecord,
+    catalogue: &binodal_fluids::Catalogue,
+    choice: &MixtureChoice,
+) -> pb::FluidDescription {
+    let (tc, pc) = choice.mixture.pseudo_critical();
+    let basis = mixture_basis(choice);
+    let models = Model::ALL
+        .iter()
+        .map(|&model| {
+            let worst = choice
+                .components
+                .iter()
+                .filter_map(|(f, _)| accuracy_to_proto(f.accuracy_for(model), model))
+                .max_by(|a, b| {
+                    a.saturation_pressure_max_abs_deviation_percent
+                        .total_cmp(&b.saturation_pressure_max_abs_deviation_percent)
+                });
+            pb::ModelSupport {
+                equation_of_state: model_to_proto(model) as i32,
+                alpha_function: pb::AlphaFunction::AcentricCorrelation as i32,
+                alpha_function_detail: "each component's own alpha (fitted where the catalogue has a fit); one-fluid mixing rules with k_ij = 0".into(),
+                accuracy: worst,
+            }
+        })
+        .collect();
+    pb::FluidDescription {
+        fluid_id: blend.id.clone(),
+        display_name: blend.name.clone(),
+        ashrae_number: blend.ashrae_number.clone().unwrap_or_default(),
+        aliases: blend.aliases.clone(),
+        chemical_name: blend_composition_text(blend, catalogue),
+        formula: String::new(),
+        cas_number: String::new(),
+        molar_mass_kg_per_mol: choice.mixture.molar_mass_kg_per_mol(),
+        critical_temperature_k: tc,
+        critical_pressure_pa: pc,
+        critical_density_kg_per_m3: None,
+        acentric_factor: None,
+        normal_boiling_point_k: None,
+        triple_point_temperature_k: None,
+        triple_point_pressure_pa: None,
+        safety_class: safety_class_to_proto(blend.safety_class) as i32,
+        caution: basis.caution,
+        kind: pb::FluidKind::Blend as i32,
+        blend_components: catalogue
+            .blend_components(blend)
+            .iter()
+            .map(|(f, w)| pb::BlendComponent {
+                fluid_id: f.id.clone(),
+                display_name: f.name.clone(),
+                mass_fraction: *w,
+            })
+            .collect(),
+        models,
+        sources: vec![
+            format!("composition and safety class: {}", blend.citation),
+            "critical_temperature_k, critical_pressure_pa: pseudo-critical values (Kay's rule, mole-fraction averages of the components), not the blend's true critical point".into(),
+        ],
+        user_defined: false,
+    }
 }
 
 fn alpha_to_proto(chosen: &binodal_eos::PureEos) -> pb::AlphaFunction {
@@ -279,7 +376,7 @@ pub fn saturation(sat: &Saturation, chosen: &Chosen<'_>) -> pb::GetSaturationRes
         enthalpy_of_vaporization_j_per_kg: sat.enthalpy_of_vaporization_j_per_mol / m,
         entropy_of_vaporization_j_per_mol_k: sat.entropy_of_vaporization_j_per_mol_k,
         entropy_of_vaporization_j_per_kg_k: sat.entropy_of_vaporization_j_per_mol_k / m,
-        path: pb::ComputationPath::FullSolve as i32,
+        path: path_to_proto(sat.path) as i32,
         basis: Some(basis(chosen)),
     }
 }
@@ -315,7 +412,7 @@ pub fn state(state: &State, chosen: &Chosen<'_>) -> pb::GetStateResponse {
         reduced_pressure: state.reduced_pressure,
         estimated: state.estimated,
         near_critical: state.near_critical,
-        path: pb::ComputationPath::FullSolve as i32,
+        path: path_to_proto(state.path) as i32,
         basis: Some(basis(chosen)),
     }
 }
@@ -422,16 +519,16 @@ pub fn mixture_basis(choice: &MixtureChoice) -> pb::ResultBasis {
     let worst = choice
         .components
         .iter()
-        .filter_map(|(f, _)| accuracy_to_proto(f.accuracy_for(model), model))
-        .max_by(|a, b| {
+        .filter_map(|(f, _)| accuracy_to_proto(f.accuracy_for(model), model).map(|a| (f, a)))
+        .max_by(|(_, a), (_, b)| {
             a.saturation_pressure_max_abs_deviation_percent
                 .total_cmp(&b.saturation_pressure_max_abs_deviation_percent)
         })
-        .map(|mut a| {
+        .map(|(f, mut a)| {
             a.reference = format!(
                 "worst recorded pure-component deviation ({}); the mixture's phase equilibrium \
                  (k_ij = 0) is not checked against measured mixture data",
-                a.reference
+                f.name
             );
             a
         });
@@ -586,5 +683,197 @@ pub fn mixture_state(state: &binodal_eos::MixtureState, choice: &MixtureChoice) 
         near_critical: state.near_critical,
         path: pb::ComputationPath::FullSolve as i32,
         basis: Some(mixture_basis(choice)),
+    }
+}
+
+/// A failed point of a batch, with the code its engine error maps to.
+pub fn point_error(index: usize, e: &binodal_eos::Error) -> pb::PointError {
+    let code = match crate::status::engine_code(e) {
+        tonic::Code::OutOfRange => pb::PointErrorCode::OutOfRange,
+        tonic::Code::Internal => pb::PointErrorCode::NotConverged,
+        tonic::Code::InvalidArgument => pb::PointErrorCode::InvalidInput,
+        _ => pb::PointErrorCode::Internal,
+    };
+    pb::PointError {
+        index: index as u32,
+        code: code as i32,
+        message: e.to_string(),
+    }
+}
+
+/// A pure-fluid batch response of `n` points: every column sized once, then filled in place by
+/// `fill` (which may split the columns and fill the parts on several threads) and the point
+/// errors it returns, in index order.
+pub fn state_batch_response(
+    n: usize,
+    basis: pb::ResultBasis,
+    fill: impl FnOnce(BatchColumns<'_>) -> Vec<pb::PointError>,
+) -> pb::GetStateBatchResponse {
+    let mut out = pb::GetStateBatchResponse {
+        phases: vec![0; n],
+        densities_kg_per_m3: vec![0.0; n],
+        compressibility_factors: vec![0.0; n],
+        enthalpies_j_per_mol: vec![0.0; n],
+        enthalpies_j_per_kg: vec![0.0; n],
+        entropies_j_per_mol_k: vec![0.0; n],
+        entropies_j_per_kg_k: vec![0.0; n],
+        subcooling_k: vec![0.0; n],
+        superheat_k: vec![0.0; n],
+        pressure_above_bubble_pa: vec![0.0; n],
+        pressure_below_dew_pa: vec![0.0; n],
+        vapor_fractions_mol: vec![f64::NAN; n],
+        estimated: vec![false; n],
+        near_critical: vec![false; n],
+        paths: vec![0; n],
+        errors: Vec::new(),
+        basis: Some(basis),
+    };
+    let columns = BatchColumns {
+        phases: &mut out.phases,
+        densities: &mut out.densities_kg_per_m3,
+        compressibilities: &mut out.compressibility_factors,
+        enthalpies_mol: &mut out.enthalpies_j_per_mol,
+        enthalpies_kg: &mut out.enthalpies_j_per_kg,
+        entropies_mol: &mut out.entropies_j_per_mol_k,
+        entropies_kg: &mut out.entropies_j_per_kg_k,
+        subcooling: &mut out.subcooling_k,
+        superheat: &mut out.superheat_k,
+        above_bubble: &mut out.pressure_above_bubble_pa,
+        below_dew: &mut out.pressure_below_dew_pa,
+        estimated: &mut out.estimated,
+        near_critical: &mut out.near_critical,
+        paths: &mut out.paths,
+    };
+    let errors = fill(columns);
+    out.errors = errors;
+    out
+}
+
+/// The columns of a pure-fluid batch response (all of the same length), borrowed for filling.
+/// Vapor fractions stay NaN: a pure fluid has no two-phase split at a given (T, P).
+#[derive(Debug)]
+pub struct BatchColumns<'a> {
+    phases: &'a mut [i32],
+    densities: &'a mut [f64],
+    compressibilities: &'a mut [f64],
+    enthalpies_mol: &'a mut [f64],
+    enthalpies_kg: &'a mut [f64],
+    entropies_mol: &'a mut [f64],
+    entropies_kg: &'a mut [f64],
+    subcooling: &'a mut [f64],
+    superheat: &'a mut [f64],
+    above_bubble: &'a mut [f64],
+    below_dew: &'a mut [f64],
+    estimated: &'a mut [bool],
+    near_critical: &'a mut [bool],
+    paths: &'a mut [i32],
+}
+
+impl<'a> BatchColumns<'a> {
+    /// Points in these columns.
+    pub fn len(&self) -> usize {
+        self.phases.len()
+    }
+
+    /// The first `mid` points and the rest.
+    pub fn split_at(self, mid: usize) -> (BatchColumns<'a>, BatchColumns<'a>) {
+        let (phases, phases_b) = self.phases.split_at_mut(mid);
+        let (densities, densities_b) = self.densities.split_at_mut(mid);
+        let (compressibilities, compressibilities_b) = self.compressibilities.split_at_mut(mid);
+        let (enthalpies_mol, enthalpies_mol_b) = self.enthalpies_mol.split_at_mut(mid);
+        let (enthalpies_kg, enthalpies_kg_b) = self.enthalpies_kg.split_at_mut(mid);
+        let (entropies_mol, entropies_mol_b) = self.entropies_mol.split_at_mut(mid);
+        let (entropies_kg, entropies_kg_b) = self.entropies_kg.split_at_mut(mid);
+        let (subcooling, subcooling_b) = self.subcooling.split_at_mut(mid);
+        let (superheat, superheat_b) = self.superheat.split_at_mut(mid);
+        let (above_bubble, above_bubble_b) = self.above_bubble.split_at_mut(mid);
+        let (below_dew, below_dew_b) = self.below_dew.split_at_mut(mid);
+        let (estimated, estimated_b) = self.estimated.split_at_mut(mid);
+        let (near_critical, near_critical_b) = self.near_critical.split_at_mut(mid);
+        let (paths, paths_b) = self.paths.split_at_mut(mid);
+        (
+            BatchColumns {
+                phases,
+                densities,
+                compressibilities,
+                enthalpies_mol,
+                enthalpies_kg,
+                entropies_mol,
+                entropies_kg,
+                subcooling,
+                superheat,
+                above_bubble,
+                below_dew,
+                estimated,
+                near_critical,
+                paths,
+            },
+            BatchColumns {
+                phases: phases_b,
+                densities: densities_b,
+                compressibilities: compressibilities_b,
+                enthalpies_mol: enthalpies_mol_b,
+                enthalpies_kg: enthalpies_kg_b,
+                entropies_mol: entropies_mol_b,
+                entropies_kg: entropies_kg_b,
+                subcooling: subcooling_b,
+                superheat: superheat_b,
+                above_bubble: above_bubble_b,
+                below_dew: below_dew_b,
+                estimated: estimated_b,
+                near_critical: near_critical_b,
+                paths: paths_b,
+            },
+        )
+    }
+
+    /// Writes point `i` from its state. On the saturation line T and P do not fix the split, so
+    /// the bulk properties are NaN there, as in GetState where they are absent.
+    pub fn put_state(&mut self, i: usize, s: &State, molar_mass: f64) {
+        let nan = f64::NAN;
+        let props = &s.properties;
+        let saturated = s.phase == Phase::Saturated;
+        let value = |x: f64| if saturated { nan } else { x };
+        let margin = s.margins.temperature_margin_k;
+        let dp = s.margins.pressure_margin_pa;
+        let h = props.enthalpy_j_per_mol.map_or(nan, value);
+        let s_mol = props.entropy_j_per_mol_k.map_or(nan, value);
+        self.phases[i] = phase_to_proto(s.phase) as i32;
+        self.densities[i] = value(props.density_kg_per_m3);
+        self.compressibilities[i] = value(props.compressibility);
+        self.enthalpies_mol[i] = h;
+        self.enthalpies_kg[i] = h / molar_mass;
+        self.entropies_mol[i] = s_mol;
+        self.entropies_kg[i] = s_mol / molar_mass;
+        self.subcooling[i] = margin.map_or(nan, |d| -d);
+        self.superheat[i] = margin.unwrap_or(nan);
+        self.above_bubble[i] = dp.unwrap_or(nan);
+        self.below_dew[i] = dp.map_or(nan, |d| -d);
+        self.estimated[i] = s.estimated;
+        self.near_critical[i] = s.near_critical;
+        self.paths[i] = path_to_proto(s.path) as i32;
+    }
+
+    /// Marks point `i` as failed: unspecified phase and path, NaN values.
+    pub fn put_failure(&mut self, i: usize) {
+        let nan = f64::NAN;
+        self.phases[i] = pb::Phase::Unspecified as i32;
+        for column in [
+            &mut *self.densities,
+            &mut *self.compressibilities,
+            &mut *self.enthalpies_mol,
+            &mut *self.enthalpies_kg,
+            &mut *self.entropies_mol,
+            &mut *self.entropies_kg,
+            &mut *self.subcooling,
+            &mut *self.superheat,
+            &mut *self.above_bubble,
+            &mut *self.below_dew,
+        ] {
+            column[i] = nan;
+        }
+        self.estimated[i] = false;
+        self.near_critical[i] = false;
+        self.paths[i] = pb::ComputationPath::Unspecified as i32;
     }
 }

@@ -3,7 +3,6 @@
 
 use std::sync::Arc;
 
-use binodal_eos::Phase;
 use binodal_fluids::normalize;
 use binodal_proto::v1 as pb;
 use binodal_proto::v1::phase_service_server::PhaseService;
@@ -14,8 +13,9 @@ use crate::engines::{Chosen, Engines, MixtureChoice};
 use crate::status::{ServiceError, engine_code};
 use crate::telemetry::{record_fluid, record_fluid_name};
 
-/// Batches at least this long are computed on the blocking thread pool, so that a large
-/// batch does not hold up the runtime's workers.
+/// Batches at least this long are computed on rayon's pool (one thread per core), so that a
+/// large batch does not hold up the runtime's workers; batches of `batch::PARALLEL_MIN` points
+/// or more are also split across that pool's threads.
 const BLOCKING_BATCH: usize = 256;
 
 /// The phase-state service handlers.
@@ -84,90 +84,12 @@ fn state_batch(
         Target::Pure(chosen) => chosen,
         Target::Mixture(choice) => return Ok(mixture_batch(&choice, ts, ps)),
     };
-    let m = chosen.eos.molar_mass_kg_per_mol();
-    let n = ts.len();
-    let mut out = pb::GetStateBatchResponse {
-        phases: Vec::with_capacity(n),
-        densities_kg_per_m3: Vec::with_capacity(n),
-        compressibility_factors: Vec::with_capacity(n),
-        enthalpies_j_per_mol: Vec::with_capacity(n),
-        enthalpies_j_per_kg: Vec::with_capacity(n),
-        entropies_j_per_mol_k: Vec::with_capacity(n),
-        entropies_j_per_kg_k: Vec::with_capacity(n),
-        subcooling_k: Vec::with_capacity(n),
-        superheat_k: Vec::with_capacity(n),
-        pressure_above_bubble_pa: Vec::with_capacity(n),
-        pressure_below_dew_pa: Vec::with_capacity(n),
-        vapor_fractions_mol: Vec::with_capacity(n),
-        estimated: Vec::with_capacity(n),
-        near_critical: Vec::with_capacity(n),
-        paths: Vec::with_capacity(n),
-        errors: Vec::new(),
-        basis: Some(convert::basis(&chosen)),
-    };
-    let nan = f64::NAN;
-    for (i, (&t, &p)) in ts.iter().zip(ps).enumerate() {
-        match chosen.eos.state(t, p) {
-            Ok(s) => {
-                let props = &s.properties;
-                let saturated = s.phase == Phase::Saturated;
-                let value = |x: f64| if saturated { nan } else { x };
-                let margin = s.margins.temperature_margin_k;
-                let dp = s.margins.pressure_margin_pa;
-                out.phases.push(convert::phase_to_proto(s.phase) as i32);
-                out.densities_kg_per_m3.push(value(props.density_kg_per_m3));
-                out.compressibility_factors
-                    .push(value(props.compressibility));
-                let h = props.enthalpy_j_per_mol.map_or(nan, value);
-                let s_mol = props.entropy_j_per_mol_k.map_or(nan, value);
-                out.enthalpies_j_per_mol.push(h);
-                out.enthalpies_j_per_kg.push(h / m);
-                out.entropies_j_per_mol_k.push(s_mol);
-                out.entropies_j_per_kg_k.push(s_mol / m);
-                out.subcooling_k.push(margin.map_or(nan, |d| -d));
-                out.superheat_k.push(margin.unwrap_or(nan));
-                out.pressure_above_bubble_pa.push(dp.unwrap_or(nan));
-                out.pressure_below_dew_pa.push(dp.map_or(nan, |d| -d));
-                out.vapor_fractions_mol.push(nan);
-                out.estimated.push(s.estimated);
-                out.near_critical.push(s.near_critical);
-                out.paths.push(pb::ComputationPath::FullSolve as i32);
-            }
-            Err(e) => {
-                let code = match engine_code(&e) {
-                    tonic::Code::OutOfRange => pb::PointErrorCode::OutOfRange,
-                    tonic::Code::Internal => pb::PointErrorCode::NotConverged,
-                    tonic::Code::InvalidArgument => pb::PointErrorCode::InvalidInput,
-                    _ => pb::PointErrorCode::Internal,
-                };
-                out.errors.push(pb::PointError {
-                    index: i as u32,
-                    code: code as i32,
-                    message: e.to_string(),
-                });
-                out.phases.push(pb::Phase::Unspecified as i32);
-                for v in [
-                    &mut out.densities_kg_per_m3,
-                    &mut out.compressibility_factors,
-                    &mut out.enthalpies_j_per_mol,
-                    &mut out.enthalpies_j_per_kg,
-                    &mut out.entropies_j_per_mol_k,
-                    &mut out.entropies_j_per_kg_k,
-                    &mut out.subcooling_k,
-                    &mut out.superheat_k,
-                    &mut out.pressure_above_bubble_pa,
-                    &mut out.pressure_below_dew_pa,
-                    &mut out.vapor_fractions_mol,
-                ] {
-                    v.push(nan);
-                }
-                out.estimated.push(false);
-                out.near_critical.push(false);
-                out.paths.push(pb::ComputationPath::Unspecified as i32);
-            }
-        }
-    }
-    Ok(out)
+    Ok(crate::batch::pure_batch(
+        chosen.eos,
+        ts,
+        ps,
+        convert::basis(&chosen),
+    ))
 }
 
 /// What a request computes on: a pure fluid's prepared engine, or a mixture.
@@ -319,6 +241,28 @@ impl PhaseService for PhaseApi {
             .map(convert::summary)
             .collect::<Vec<_>>();
         let mut fluids = fluids;
+        let catalogue = self.engines.catalogue();
+        fluids.extend(
+            catalogue
+                .blends()
+                .iter()
+                .filter(|b| {
+                    request.safety_classes.is_empty()
+                        || request
+                            .safety_classes
+                            .iter()
+                            .any(|&c| convert::class_matches(b.safety_class, c))
+                })
+                .filter(|b| {
+                    text.is_empty()
+                        || [Some(&b.id), Some(&b.name), b.ashrae_number.as_ref()]
+                            .into_iter()
+                            .flatten()
+                            .chain(b.aliases.iter())
+                            .any(|n| normalize(n).contains(&text))
+                })
+                .map(|b| convert::blend_summary(b, catalogue)),
+        );
         fluids.sort_by(|a, b| a.fluid_id.cmp(&b.fluid_id));
         Ok(Response::new(pb::ListFluidsResponse { fluids }))
     }
@@ -334,11 +278,15 @@ impl PhaseService for PhaseApi {
                 ServiceError::field("fluid", "missing: give a catalogue fluid name").into(),
             );
         }
-        let record = self
-            .engines
-            .catalogue()
-            .get(name)
-            .map_err(ServiceError::from)?;
+        let catalogue = self.engines.catalogue();
+        if let Some(blend) = catalogue.blend(name) {
+            let model = self.engines.default_model;
+            let choice = self.engines.choose_blend(name, Some(model), None)?.expect("a blend");
+            return Ok(Response::new(pb::DescribeFluidResponse {
+                fluid: Some(convert::blend_description(blend, catalogue, &choice)),
+            }));
+        }
+        let record = catalogue.get(name).map_err(ServiceError::from)?;
         Ok(Response::new(pb::DescribeFluidResponse {
             fluid: Some(convert::description(record)),
         }))
@@ -408,9 +356,17 @@ impl PhaseService for PhaseApi {
         let limit = self.max_batch_length;
         let response = if request.temperatures_k.len() >= BLOCKING_BATCH {
             let engines = Arc::clone(&self.engines);
-            tokio::task::spawn_blocking(move || state_batch(&engines, &request, limit))
+            let (done, answer) = tokio::sync::oneshot::channel();
+            rayon::spawn(move || {
+                let result = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+                    state_batch(&engines, &request, limit)
+                }));
+                done.send(result).ok();
+            });
+            answer
                 .await
-                .map_err(|e| Status::internal(format!("batch worker failed: {e}")))?
+                .map_err(|_| Status::internal("batch worker stopped without an answer"))?
+                .map_err(|_| Status::internal("batch worker failed"))?
         } else {
             state_batch(&self.engines, &request, limit)
         };

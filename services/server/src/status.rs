@@ -4,7 +4,7 @@
 //! |---|---|
 //! | a request field is missing, malformed, NaN, non-positive, or names no known model | INVALID_ARGUMENT (with a `BadRequest` field violation) |
 //! | the fluid name is unknown | NOT_FOUND (the message lists the closest names) |
-//! | a temperature or pressure outside the model's range, or in the near-critical band | OUT_OF_RANGE (with a `BadRequest` field violation) |
+//! | a temperature or pressure outside the model's range, in the near-critical band, or outside a mixture's two-phase envelope | OUT_OF_RANGE (with a `BadRequest` field violation) |
 //! | the fluid lacks data for the quantity (e.g. no ideal-gas heat capacity) | FAILED_PRECONDITION |
 //! | a capability that is not built yet (mixtures) | UNIMPLEMENTED |
 //! | a solver that did not converge | INTERNAL (a defect: the message names the solve) |
@@ -58,7 +58,9 @@ impl From<LookupError> for ServiceError {
 /// The gRPC code for an engine error.
 pub fn engine_code(e: &binodal_eos::Error) -> Code {
     match e.kind() {
-        ErrorKind::OutOfRange { .. } | ErrorKind::NearCritical { .. } => Code::OutOfRange,
+        ErrorKind::OutOfRange { .. }
+        | ErrorKind::NearCritical { .. }
+        | ErrorKind::OutsideEnvelope { .. } => Code::OutOfRange,
         ErrorKind::MissingData { .. } => Code::FailedPrecondition,
         ErrorKind::NoConvergence { .. } => Code::Internal,
         _ => Code::InvalidArgument,

@@ -106,3 +106,23 @@ proptest! {
         }
     }
 }
+
+/// At the ends of the envelope the solvers refuse with an error naming the field, never a
+/// wrong number: above both critical temperatures (propane 369.89 K, isobutane 407.81 K)
+/// and above the two-phase region in pressure.
+#[test]
+fn outside_the_envelope_is_a_precise_error() {
+    let mix = Mixture::new(pair().to_vec(), vec![0.5, 0.5], None).unwrap();
+    let err = mix.bubble_at_temperature(420.0).unwrap_err();
+    assert_eq!(err.field(), Some("temperature_k"), "{err}");
+    let err = mix.bubble_at_pressure(8.0e6).unwrap_err();
+    assert_eq!(err.field(), Some("pressure_pa"), "{err}");
+    assert!(err.to_string().contains("two-phase region"), "{err}");
+    // Close below the mixture's critical region either a consistent answer or an error.
+    for t in [385.0, 390.0, 395.0, 400.0] {
+        match (mix.bubble_at_temperature(t), mix.dew_at_temperature(t)) {
+            (Ok(b), Ok(d)) => assert!(b.pressure_pa >= d.pressure_pa * (1.0 - 1e-9), "{t}: {b:?} {d:?}"),
+            (b, d) => assert!(b.is_err() || d.is_err()),
+        }
+    }
+}
