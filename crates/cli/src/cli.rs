@@ -59,7 +59,8 @@ pub struct Cli {
 /// Options shared by every command.
 #[derive(Debug, Args)]
 pub struct GlobalArgs {
-    /// Address of the binodal service [default: http://127.0.0.1:50051]
+    /// Address of the binodal service, http://HOST:PORT or https://HOST:PORT; several replicas
+    /// separated by commas [default: http://127.0.0.1:50051]
     #[arg(long, global = true, env = "BINODAL_SERVER", value_name = "URL")]
     pub server: Option<String>,
     /// Output format [default: table]
@@ -92,6 +93,19 @@ pub struct GlobalArgs {
     /// Configuration file [default: <config dir>/binodal/config.toml]
     #[arg(long, global = true, env = "BINODAL_CONFIG", value_name = "FILE")]
     pub config: Option<PathBuf>,
+    /// CA certificate (PEM) to trust for https:// servers
+    #[arg(long, global = true, env = "BINODAL_TLS_CA", value_name = "FILE")]
+    pub tls_ca: Option<PathBuf>,
+    /// Client certificate (PEM) for servers that require mutual TLS; needs --tls-key
+    #[arg(long, global = true, env = "BINODAL_TLS_CERT", value_name = "FILE")]
+    pub tls_cert: Option<PathBuf>,
+    /// Private key (PEM) of --tls-cert
+    #[arg(long, global = true, env = "BINODAL_TLS_KEY", value_name = "FILE")]
+    pub tls_key: Option<PathBuf>,
+    /// File holding the bearer token (first line that is not blank or a # comment); without it,
+    /// the BINODAL_TOKEN environment variable gives the token
+    #[arg(long, global = true, env = "BINODAL_TOKEN_FILE", value_name = "FILE")]
+    pub token_file: Option<PathBuf>,
 }
 
 /// The commands.
@@ -189,6 +203,11 @@ pub enum Command {
         after_help = "Example (container probe):\n  binodal health --server http://127.0.0.1:50051 --output json"
     )]
     Health,
+    /// Play plant readings (CSV file or standard input) into the alarm stream; print the events
+    #[command(
+        after_help = "Examples (Harrowgate Cold Store demo):\n  binodal watch crates/cli/examples/harrowgate_cold_store.csv \\\n      --rules crates/cli/examples/harrowgate_cold_store.toml --altitude 85m\n  tail -f readings.csv | binodal watch --rule NH3-P101=minimum-subcooling,limit=3 --speed 1\n\nCSV columns: time, tag, pressure, temperature (required); fluid, quality, ambient.\nAlarms are advisory: no substitute for a safety instrumented system or the plant's own\nprotection; limits defer to local codes and licensed practice."
+    )]
+    Watch(crate::watch::WatchArgs),
     /// Print a shell completion script
     #[command(
         after_help = "Example:\n  binodal completions bash > ~/.local/share/bash-completion/completions/binodal"

@@ -4,11 +4,10 @@ use std::time::Duration;
 
 use binodal_proto::v1::phase_service_client::PhaseServiceClient;
 use binodal_proto::v1::{DescribeFluidRequest, FluidDescription};
-use tonic::transport::{Channel, Endpoint};
 use tonic::{Code, Status};
 
-/// Longest wait for the TCP/HTTP2 connection.
-pub const CONNECT_TIMEOUT: Duration = Duration::from_secs(5);
+use crate::transport::{Security, Transport};
+
 /// Longest wait for one call's answer.
 pub const CALL_TIMEOUT: Duration = Duration::from_secs(30);
 
@@ -17,7 +16,7 @@ pub const CALL_TIMEOUT: Duration = Duration::from_secs(30);
 pub enum ServiceError {
     /// The address is not an `http://host:port` URL.
     #[error(
-        "server address `{url}` is not usable: {reason}; write it as http://HOST:PORT, e.g. http://127.0.0.1:50051"
+        "server address `{url}` is not usable: {reason}; write it as http://HOST:PORT or https://HOST:PORT, e.g. http://127.0.0.1:50051 (several replicas: separated by commas)"
     )]
     BadAddress {
         /// The address as given.
@@ -54,6 +53,16 @@ pub enum ServiceError {
         /// The server's message.
         message: String,
     },
+    /// The server refused the credentials (token).
+    #[error(
+        "the binodal server at {url} refused the call: {message} (give the token with --token-file or BINODAL_TOKEN)"
+    )]
+    Unauthenticated {
+        /// The address tried.
+        url: String,
+        /// The server's message.
+        message: String,
+    },
     /// The server does not offer this yet.
     #[error("the binodal server at {url} does not offer this yet: {message}")]
     NotOffered {
@@ -74,39 +83,31 @@ pub enum ServiceError {
     },
 }
 
-/// A connected channel and the address it was opened to.
+/// A channel to the service (one replica, or several balanced) and the address it was opened to.
 #[derive(Debug, Clone)]
 pub struct Service {
     url: String,
-    channel: Channel,
+    channel: Transport,
 }
 
 impl Service {
-    /// Opens a connection to `url` (`http://host:port`), waiting at most [`CONNECT_TIMEOUT`].
-    pub async fn connect(url: &str) -> Result<Service, ServiceError> {
+    /// A connection to `url` (`http://host:port` or `https://host:port`, or several separated by
+    /// commas) with the TLS options and token of `security`. The connection opens at the first
+    /// call; calls that find no server are retried with backoff (see [`crate::transport`]).
+    pub async fn connect_with(url: &str, security: &Security) -> Result<Service, ServiceError> {
         let bad = |reason: &str| ServiceError::BadAddress {
             url: url.to_string(),
             reason: reason.to_string(),
         };
-        if url.starts_with("https://") {
-            return Err(bad(
-                "the service does not offer TLS yet, so only http:// addresses work",
-            ));
+        let urls: Vec<&str> = url.split(',').map(str::trim).collect();
+        for one in &urls {
+            if !one.starts_with("http://") && !one.starts_with("https://") {
+                return Err(bad("each address must start with http:// or https://"));
+            }
         }
-        if !url.starts_with("http://") {
-            return Err(bad("it must start with http://"));
-        }
-        let endpoint = Endpoint::from_shared(url.to_string())
-            .map_err(|e| bad(&e.to_string()))?
-            .connect_timeout(CONNECT_TIMEOUT)
-            .timeout(CALL_TIMEOUT);
-        let channel = endpoint
-            .connect()
-            .await
-            .map_err(|e| ServiceError::Unreachable {
-                url: url.to_string(),
-                source: Box::new(e),
-            })?;
+        let channel = crate::transport::channel(&urls, security)
+            .and_then(|channel| Transport::new(channel, security))
+            .map_err(|e| bad(&format!("{e:#}")))?;
         Ok(Service {
             url: url.to_string(),
             channel,
@@ -118,13 +119,14 @@ impl Service {
         &self.url
     }
 
-    /// The channel, for other gRPC clients (health).
-    pub fn channel(&self) -> Channel {
+    /// The channel, for other gRPC clients (health, alarms): it sends the token and retries the
+    /// calls that may be retried.
+    pub fn channel(&self) -> Transport {
         self.channel.clone()
     }
 
     /// A phase-service client on this connection.
-    pub fn phase(&self) -> PhaseServiceClient<Channel> {
+    pub fn phase(&self) -> PhaseServiceClient<Transport> {
         PhaseServiceClient::new(self.channel.clone())
     }
 
@@ -132,11 +134,20 @@ impl Service {
     pub fn error(&self, status: Status) -> ServiceError {
         let url = self.url.clone();
         let message = status.message().to_string();
+        if broken_connection(&status) {
+            return ServiceError::Unreachable {
+                url,
+                source: Box::new(status),
+            };
+        }
         match status.code() {
             Code::Unavailable => ServiceError::Unreachable {
                 url,
                 source: Box::new(status),
             },
+            Code::Unauthenticated | Code::PermissionDenied => {
+                ServiceError::Unauthenticated { url, message }
+            }
             Code::DeadlineExceeded | Code::Cancelled => ServiceError::TimedOut { url },
             Code::NotFound => ServiceError::UnknownFluid { message },
             Code::InvalidArgument | Code::OutOfRange | Code::FailedPrecondition => {
@@ -163,4 +174,22 @@ impl Service {
             message: "the answer to DescribeFluid has no fluid".to_string(),
         })
     }
+}
+
+/// Whether a status was made by the client from a connection that broke or could not be made (a
+/// refused TLS handshake, a reset): UNKNOWN or CANCELLED with a transport error as its source,
+/// and not the call timeout running out.
+fn broken_connection(status: &Status) -> bool {
+    if !matches!(status.code(), Code::Unknown | Code::Cancelled) {
+        return false;
+    }
+    let mut cause = std::error::Error::source(status);
+    let transport = cause.is_some();
+    while let Some(error) = cause {
+        if error.is::<tonic::TimeoutExpired>() {
+            return false;
+        }
+        cause = error.source();
+    }
+    transport
 }

@@ -92,6 +92,8 @@ pub struct Settings {
     pub ambient: AmbientSetting,
     /// Equation of state; `None` leaves the choice to the server.
     pub model: Option<ModelArg>,
+    /// TLS options and token for reaching the server.
+    pub security: crate::transport::Security,
 }
 
 /// The default configuration file path, if the platform has a configuration directory.
@@ -188,12 +190,21 @@ pub fn resolve(global: &GlobalArgs) -> anyhow::Result<Settings> {
         (None, None) => None,
     };
 
+    let security = crate::transport::Security::new(
+        global.tls_ca.clone(),
+        global.tls_cert.clone(),
+        global.tls_key.clone(),
+        global.token_file.as_deref(),
+        std::env::var("BINODAL_TOKEN").ok(),
+    )?;
+
     Ok(Settings {
         server,
         units,
         output,
         ambient,
         model,
+        security,
     })
 }
 

@@ -10,9 +10,11 @@ mod commands;
 mod config;
 mod reading;
 mod report;
+mod transport;
 // The units layer offers more than the commands use so far (lengths, per-quantity formatters).
 #[allow(dead_code)]
 mod units;
+mod watch;
 
 use std::io::Write as _;
 use std::process::ExitCode;
@@ -141,6 +143,7 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
                     ExitCode::FAILURE
                 });
             }
+            Command::Watch(args) => return watch::run(&settings, &args).await,
             Command::Completions { shell } => return completions(shell),
         };
         document.emit(settings.output, settings.units)?;

@@ -538,7 +538,9 @@ fn pressure_temperature_diagram_as_svg() {
         "json",
     ]);
     let answer = run.json();
-    assert_eq!(answer["solid_boundaries_drawn"], false);
+    // The catalogue has carbon dioxide's triple point and heat of fusion (CRC Handbook, 95th
+    // ed., as cited there), so the server sends its estimated solid boundaries.
+    assert_eq!(answer["solid_boundaries_drawn"], true);
     assert!(number(&answer, "curve_points") >= 40.0, "{answer}");
     let svg = std::fs::read_to_string(&out).expect("the SVG was written");
     assert!(svg.starts_with("<svg"), "not an SVG");
@@ -579,9 +581,72 @@ fn pressure_temperature_diagram_as_svg() {
             "no circle under the label {mark} at ({x}, {y}); circles {circles:?}"
         );
     }
-    for label in ["critical point", "triple point", "saturation curve"] {
+    for label in [
+        "critical point",
+        "triple point",
+        "saturation curve",
+        "estimated melting line",
+        "estimated sublimation curve",
+    ] {
         assert!(svg.contains(label), "legend lacks {label}");
     }
+}
+
+/// Number of `<polyline>` elements stroked in `color` (`#RRGGBB`, as plotters writes it): the
+/// dashes of a dashed series are one short polyline each.
+fn dashes(svg: &str, color: &str) -> usize {
+    svg.split("<polyline")
+        .skip(1)
+        .filter(|element| attribute_text(element, "stroke") == Some(color))
+        .count()
+}
+
+/// The start of the note on a P-T diagram without solid boundaries.
+const SOLID_NOT_DRAWN: &str = "solid boundaries (melting line, sublimation curve) are not drawn";
+
+#[test]
+fn water_pressure_temperature_diagram_draws_the_estimated_solid_boundaries() {
+    let out = scratch("diagram-water").join("water.svg");
+    let out_text = out.to_str().expect("UTF-8 path");
+    let answer = run(&[
+        "diagram", "water", "--kind", "pt", "--out", out_text, "--output", "json",
+    ])
+    .json();
+    assert_eq!(answer["solid_boundaries_drawn"], true, "{answer}");
+    let notes = answer["notes"].to_string();
+    assert!(!notes.contains(SOLID_NOT_DRAWN), "{notes}");
+    assert!(notes.contains("estimates, not measured data"), "{notes}");
+    let svg = std::fs::read_to_string(&out).expect("the SVG was written");
+    for label in [
+        "estimated melting line",
+        "estimated sublimation curve",
+        "estimated solid boundaries",
+    ] {
+        assert!(svg.contains(label), "the SVG lacks {label:?}");
+    }
+    // Both curves are dashed: many short segments in their own colours.
+    for (curve, color) in [
+        ("melting line", "#800080"),
+        ("sublimation curve", "#008080"),
+    ] {
+        let count = dashes(&svg, color);
+        assert!(count >= 10, "the {curve} has {count} dashes");
+    }
+
+    // R-134a: the catalogue records no heat of fusion (crates/fluids/data/hfc.toml), so there is
+    // nothing to draw and the note says why.
+    let out = scratch("diagram-r134a").join("ch2.svg");
+    let out_text = out.to_str().expect("UTF-8 path");
+    let answer = run(&[
+        "diagram", "R-134a", "--kind", "pt", "--out", out_text, "--output", "json",
+    ])
+    .json();
+    assert_eq!(answer["solid_boundaries_drawn"], false, "{answer}");
+    let notes = answer["notes"].to_string();
+    assert!(notes.contains(SOLID_NOT_DRAWN), "{notes}");
+    assert!(notes.contains("heat of fusion"), "{notes}");
+    let svg = std::fs::read_to_string(&out).expect("the SVG was written");
+    assert!(!svg.contains("estimated melting line"));
 }
 
 /// The raw text of an attribute.
@@ -756,19 +821,36 @@ fn blend_superheat_and_subcooling_use_the_dew_and_bubble_points() {
     // blends with glide, common practice). The two points differ by the glide, several
     // kelvin for R-407C (common practice), so the two answers must use different points.
     let suction = run(&[
-        "superheat", "R-407C", "--pressure", "4barg", "--temperature", "10C", "--output", "json",
+        "superheat",
+        "R-407C",
+        "--pressure",
+        "4barg",
+        "--temperature",
+        "10C",
+        "--output",
+        "json",
     ])
     .json();
     assert_eq!(suction["saturation_point"], "dew");
     let liquid = run(&[
-        "subcooling", "R-407C", "--pressure", "4barg", "--temperature", "-10C", "--output", "json",
+        "subcooling",
+        "R-407C",
+        "--pressure",
+        "4barg",
+        "--temperature",
+        "-10C",
+        "--output",
+        "json",
     ])
     .json();
     assert_eq!(liquid["saturation_point"], "bubble");
     let dew = number(&suction, "saturation_temperature_k");
     let bubble = number(&liquid, "saturation_temperature_k");
     let glide = dew - bubble;
-    assert!((4.0..8.0).contains(&glide), "R-407C glide at 4 bar(g): {glide} K");
+    assert!(
+        (4.0..8.0).contains(&glide),
+        "R-407C glide at 4 bar(g): {glide} K"
+    );
     let line_k = 10.0 + CELSIUS_ZERO_K;
     assert!((number(&suction, "superheat_k") - (line_k - dew)).abs() < 1e-9);
 }

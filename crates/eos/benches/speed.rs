@@ -3,7 +3,7 @@
 //! | benchmark | floor |
 //! |---|---|
 //! | cubic solve | evaluating the same cubic once (Horner) |
-//! | saturation pressure through the curve | a bare Chebyshev evaluation of the curve's degree |
+//! | saturation pressure through the curve | a bare Chebyshev evaluation of the curve's degree (Clenshaw), and the same-degree polynomial by Estrin's scheme as the curve evaluates it |
 //! | saturation pressure through the full solve | the same Chebyshev evaluation |
 //! | both saturated phases through the curve | a plain cubic solve |
 //! | classification at (T, P) through the curve | a plain cubic solve |
@@ -19,7 +19,7 @@ use std::hint::black_box;
 use std::time::{Duration, Instant};
 
 use binodal_eos::{
-    CURVE_DEGREE, FluidConstants, IdealGasCp, Model, PureEos, ReferenceState, clenshaw,
+    CURVE_DEGREE, FluidConstants, IdealGasCp, Model, PureEos, ReferenceState, clenshaw, estrin,
     solve_cubic,
 };
 use criterion::Criterion;
@@ -44,7 +44,13 @@ fn propane() -> FluidConstants {
 struct Tally(RefCell<BTreeMap<&'static str, (Duration, u64)>>);
 
 impl Tally {
-    fn bench<R>(&self, c: &mut Criterion, name: &'static str, calls: u64, mut f: impl FnMut() -> R) {
+    fn bench<R>(
+        &self,
+        c: &mut Criterion,
+        name: &'static str,
+        calls: u64,
+        mut f: impl FnMut() -> R,
+    ) {
         c.bench_function(name, |b| {
             b.iter_custom(|iters| {
                 let start = Instant::now();
@@ -82,6 +88,7 @@ const CUBIC_FLOOR: &str = "floor: cubic evaluated once";
 const SAT_CURVE: &str = "saturation pressure, curve";
 const SAT_SOLVE: &str = "saturation pressure, full solve";
 const CHEB_FLOOR: &str = "floor: Chebyshev evaluation of the curve's degree";
+const ESTRIN_FLOOR: &str = "floor: same-degree polynomial, Estrin's scheme";
 const SATPHASES_CURVE: &str = "saturated phases at T, curve";
 const SATPHASES_SOLVE: &str = "saturated phases at T, full solve";
 const STATE_CURVE: &str = "classification at (T, P), curve";
@@ -130,6 +137,11 @@ fn main() {
     tally.bench(&mut c, CHEB_FLOOR, 1, || {
         let u = -0.9 + 0.028 * next() as f64;
         clenshaw(&coefficients, u)
+    });
+    let monomial: [f64; CURVE_DEGREE + 1] = std::array::from_fn(|k| coefficients[k]);
+    tally.bench(&mut c, ESTRIN_FLOOR, 1, || {
+        let u = -0.9 + 0.028 * next() as f64;
+        estrin(&monomial, u)
     });
     tally.bench(&mut c, SAT_CURVE, 1, || {
         curved.saturation_pressure(temps[next()]).expect("in range")
@@ -189,6 +201,7 @@ fn main() {
     println!();
     tally.print_ratio(CUBIC, CUBIC_FLOOR);
     tally.print_ratio(SAT_CURVE, CHEB_FLOOR);
+    tally.print_ratio(SAT_CURVE, ESTRIN_FLOOR);
     tally.print_ratio(SAT_SOLVE, CHEB_FLOOR);
     tally.print_ratio(SAT_SOLVE, SAT_CURVE);
     tally.print_ratio(SATPHASES_CURVE, PLAIN_CUBIC);

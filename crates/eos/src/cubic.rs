@@ -54,7 +54,7 @@ pub fn solve_cubic(c2: f64, c1: f64, c0: f64) -> CubicRoots {
     let disc = (q / 2.0) * (q / 2.0) + (p / 3.0) * (p / 3.0) * (p / 3.0);
     let first = if disc > 0.0 {
         let sq = disc.sqrt();
-        let u = (-q / 2.0 - q.signum() * sq).cbrt();
+        let u = cube_root(-q / 2.0 - q.signum() * sq);
         let t = if u != 0.0 { u - p / (3.0 * u) } else { 0.0 };
         t - shift
     } else {
@@ -86,10 +86,11 @@ pub fn solve_cubic(c2: f64, c1: f64, c0: f64) -> CubicRoots {
     CubicRoots { roots, len: 3 }
 }
 
-/// Two Newton steps on the cubic; a step is kept only if it reduces the residual.
+/// Up to three Newton steps on the cubic; a step is kept only if it reduces the residual (the
+/// residual of a kept step is reused by the next).
 fn polish(mut z: f64, c2: f64, c1: f64, c0: f64) -> f64 {
+    let mut f = ((z + c2) * z + c1) * z + c0;
     for _ in 0..3 {
-        let f = ((z + c2) * z + c1) * z + c0;
         let df = (3.0 * z + 2.0 * c2) * z + c1;
         if df == 0.0 || f == 0.0 {
             break;
@@ -98,6 +99,7 @@ fn polish(mut z: f64, c2: f64, c1: f64, c0: f64) -> f64 {
         let f_next = ((next + c2) * next + c1) * next + c0;
         if f_next.abs() < f.abs() {
             z = next;
+            f = f_next;
         } else {
             break;
         }
@@ -105,9 +107,53 @@ fn polish(mut z: f64, c2: f64, c1: f64, c0: f64) -> f64 {
     z
 }
 
+/// The real cube root of `x`, to within about one unit in the last place: a first guess from
+/// the exponent bits (a third of the biased exponent, about 5 % off), then three steps of
+/// Halley's iteration `y <- y (y^3 + 2x) / (2y^3 + x)`, which triples the number of correct
+/// digits each step. About half the cost of the library's correctly rounded `cbrt`; the root
+/// it feeds is polished by Newton steps on the cubic afterwards anyway.
+fn cube_root(x: f64) -> f64 {
+    if x == 0.0 || !x.is_finite() {
+        return x;
+    }
+    let a = x.abs();
+    let (a, scale) = if a < f64::MIN_POSITIVE {
+        // Subnormal: scale by 2^54 (cube root 2^18) to keep the bit trick valid.
+        (a * 18_014_398_509_481_984.0, 1.0 / 262_144.0)
+    } else {
+        (a, 1.0)
+    };
+    let mut y = f64::from_bits(a.to_bits() / 3 + 0x2A9F_7893_782D_A1CE);
+    for _ in 0..3 {
+        let y3 = y * y * y;
+        y *= (y3 + 2.0 * a) / (2.0 * y3 + a);
+    }
+    (y * scale).copysign(x)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The fast cube root agrees with the library's correctly rounded one within 1e-15
+    /// relative, over normal and subnormal magnitudes of both signs.
+    #[test]
+    fn cube_root_matches_the_library() {
+        let mut x = 1e-310_f64;
+        while x < 1e300 {
+            for v in [x, -x, 1.37 * x, -2.9 * x] {
+                let (fast, exact) = (cube_root(v), v.cbrt());
+                assert!(
+                    (fast - exact).abs() <= 1e-15 * exact.abs(),
+                    "{v}: {fast} {exact}"
+                );
+            }
+            x *= 7.3;
+        }
+        assert_eq!(cube_root(0.0), 0.0);
+        assert_eq!(cube_root(-27.0), -3.0);
+        assert!(cube_root(f64::NAN).is_nan());
+    }
 
     /// Cubics built from known roots, including the nearly coincident pairs met near the
     /// critical point and roots of very different size met at low reduced temperature.

@@ -243,7 +243,11 @@ impl Piecewise {
             for (k, coefficient) in coefficients.iter_mut().enumerate() {
                 let mut sum = 0.0;
                 for (j, &v) in values.iter().enumerate() {
-                    let w = if j == 0 || j == CURVE_DEGREE { 0.5 } else { 1.0 };
+                    let w = if j == 0 || j == CURVE_DEGREE {
+                        0.5
+                    } else {
+                        1.0
+                    };
                     sum += w * v * (std::f64::consts::PI * (j * k) as f64 / n).cos();
                 }
                 let c = 2.0 / n * sum;
@@ -380,7 +384,9 @@ impl SaturationCurve {
 
         // Inverse series: nodes by inverting the forward series, checks with the solver.
         let (y_lo, y_hi) = (forward.eval(x_hi), forward.eval(x_lo));
-        let invert = |y: f64| -> Result<f64, Error> { Ok(invert_decreasing(|x| forward.eval(x), y, x_lo, x_hi)) };
+        let invert = |y: f64| -> Result<f64, Error> {
+            Ok(invert_decreasing(|x| forward.eval(x), y, x_lo, x_hi))
+        };
         let mut inverse = None;
         for &segments in &SEGMENT_COUNTS {
             let series = Piecewise::interpolate(y_lo, y_hi, segments, invert)?;

@@ -258,7 +258,10 @@ impl PureEos {
     /// fluid has ideal-gas data (used by mixtures).
     pub(crate) fn ideal_gas_terms(&self, t: f64) -> Option<(f64, f64)> {
         self.ideal.as_ref().map(|c| {
-            (R * c.enthalpy_over_r(T_IDEAL_ORIGIN, t), R * c.entropy_over_r(T_IDEAL_ORIGIN, t))
+            (
+                R * c.enthalpy_over_r(T_IDEAL_ORIGIN, t),
+                R * c.entropy_over_r(T_IDEAL_ORIGIN, t),
+            )
         })
     }
 

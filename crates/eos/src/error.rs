@@ -135,8 +135,16 @@ impl Error {
         })
     }
 
-    pub(crate) fn outside_envelope(field: &'static str, value: f64, detail: impl Into<String>) -> Error {
-        Error::new(ErrorKind::OutsideEnvelope { field, value, detail: detail.into() })
+    pub(crate) fn outside_envelope(
+        field: &'static str,
+        value: f64,
+        detail: impl Into<String>,
+    ) -> Error {
+        Error::new(ErrorKind::OutsideEnvelope {
+            field,
+            value,
+            detail: detail.into(),
+        })
     }
 
     pub(crate) fn no_convergence(what: &'static str, detail: impl Into<String>) -> Error {
@@ -184,7 +192,11 @@ impl fmt::Display for Error {
                  value {critical} {unit}) where the two saturated phases cannot be told apart; \
                  valid up to {limit} {unit}"
             ),
-            ErrorKind::OutsideEnvelope { field, value, detail } => {
+            ErrorKind::OutsideEnvelope {
+                field,
+                value,
+                detail,
+            } => {
                 write!(f, "{field} = {value}: {detail}")
             }
             ErrorKind::UnknownModel { name } => write!(

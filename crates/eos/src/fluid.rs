@@ -63,6 +63,10 @@ impl IdealGasCp {
         let y = x.clamp(lo, hi);
         let inner =
             a[0] * y.ln() + y * (a[1] + y * (a[2] / 2.0 + y * (a[3] / 3.0 + y * a[4] / 4.0)));
+        if x == y {
+            // Inside the range: no constant-heat-capacity tail (and no second logarithm).
+            return inner;
+        }
         inner + self.cp_over_r(y) * (x / y).ln()
     }
 }

@@ -147,7 +147,11 @@ impl Mixture {
     ) -> Result<Mixture, Error> {
         let n = components.len();
         if n == 0 {
-            return Err(Error::invalid("components", 0.0, "a mixture needs at least one component"));
+            return Err(Error::invalid(
+                "components",
+                0.0,
+                "a mixture needs at least one component",
+            ));
         }
         if mole_fractions.len() != n {
             return Err(Error::invalid(
@@ -158,7 +162,11 @@ impl Mixture {
         }
         let model = components[0].model();
         if components.iter().any(|c| c.model() != model) {
-            return Err(Error::invalid("components", n as f64, "all components need the same model"));
+            return Err(Error::invalid(
+                "components",
+                n as f64,
+                "all components need the same model",
+            ));
         }
         let mut sum = 0.0;
         for &x in &mole_fractions {
@@ -166,23 +174,39 @@ impl Mixture {
                 return Err(Error::non_finite("mole_fractions"));
             }
             if x < 0.0 {
-                return Err(Error::invalid("mole_fractions", x, "fractions must be 0 or more"));
+                return Err(Error::invalid(
+                    "mole_fractions",
+                    x,
+                    "fractions must be 0 or more",
+                ));
             }
             sum += x;
         }
         if (sum - 1.0).abs() > 1e-9 {
-            return Err(Error::invalid("mole_fractions", sum, "fractions must sum to 1 (within 1e-9)"));
+            return Err(Error::invalid(
+                "mole_fractions",
+                sum,
+                "fractions must sum to 1 (within 1e-9)",
+            ));
         }
         let mut k = vec![0.0; n * n];
         if let Some(rows) = kij {
             if rows.len() != n || rows.iter().any(|r| r.len() != n) {
-                return Err(Error::invalid("kij", rows.len() as f64, format!("must be {n} x {n}")));
+                return Err(Error::invalid(
+                    "kij",
+                    rows.len() as f64,
+                    format!("must be {n} x {n}"),
+                ));
             }
             for i in 0..n {
                 for j in 0..n {
                     let v = rows[i][j];
                     if !v.is_finite() || v.abs() >= 1.0 || (v - rows[j][i]).abs() > 1e-15 {
-                        return Err(Error::invalid("kij", v, "must be finite, symmetric, within (-1, 1)"));
+                        return Err(Error::invalid(
+                            "kij",
+                            v,
+                            "must be finite, symmetric, within (-1, 1)",
+                        ));
                     }
                     k[i * n + j] = if i == j { 0.0 } else { v };
                 }
@@ -191,13 +215,22 @@ impl Mixture {
         let nonzero: Vec<usize> = (0..n).filter(|&i| mole_fractions[i] > 0.0).collect();
         let single = (nonzero.len() == 1).then(|| nonzero[0]);
         let z = mole_fractions.iter().map(|x| x / sum).collect();
-        Ok(Mixture { components, z, kij: k, single, reference: None })
+        Ok(Mixture {
+            components,
+            z,
+            kij: k,
+            single,
+            reference: None,
+        })
     }
 
     /// Mole fractions from mass fractions and the components' molar masses.
     pub fn mole_fractions_from_mass(components: &[PureEos], mass: &[f64]) -> Vec<f64> {
-        let moles: Vec<f64> =
-            components.iter().zip(mass).map(|(c, w)| w / c.molar_mass_kg_per_mol()).collect();
+        let moles: Vec<f64> = components
+            .iter()
+            .zip(mass)
+            .map(|(c, w)| w / c.molar_mass_kg_per_mol())
+            .collect();
         let total: f64 = moles.iter().sum();
         moles.iter().map(|m| m / total).collect()
     }
@@ -228,7 +261,11 @@ impl Mixture {
     }
 
     fn molar_mass(&self, x: &[f64]) -> f64 {
-        self.components.iter().zip(x).map(|(c, xi)| xi * c.molar_mass_kg_per_mol()).sum()
+        self.components
+            .iter()
+            .zip(x)
+            .map(|(c, xi)| xi * c.molar_mass_kg_per_mol())
+            .sum()
     }
 
     /// Lowest temperature at which every component is within its range, K.
@@ -261,12 +298,21 @@ impl Mixture {
                 (self.bubble_at_pressure(P_IDEAL_ORIGIN)?, 0.0, 0.0)
             }
         };
-        let (h, s) = self.absolute_terms(point.temperature_k, point.pressure_pa, &self.z.clone(), Root::Liquid)
-            .ok_or_else(|| Error::new(ErrorKind::MissingData {
-                what: "a mixture component has no ideal-gas heat capacity, so absolute h and s \
+        let (h, s) = self
+            .absolute_terms(
+                point.temperature_k,
+                point.pressure_pa,
+                &self.z.clone(),
+                Root::Liquid,
+            )
+            .ok_or_else(|| {
+                Error::new(ErrorKind::MissingData {
+                    what:
+                        "a mixture component has no ideal-gas heat capacity, so absolute h and s \
                        cannot be computed"
-                    .into(),
-            }))?;
+                            .into(),
+                })
+            })?;
         self.reference = Some((reference, h_target - h, s_target - s));
         Ok(self)
     }
@@ -297,7 +343,12 @@ impl Mixture {
                 }
             }
         }
-        MixParams { a: a_mix, da: da_mix, b, a_row }
+        MixParams {
+            a: a_mix,
+            da: da_mix,
+            b,
+            a_row,
+        }
     }
 
     fn constants(&self) -> (f64, f64) {
@@ -326,7 +377,12 @@ impl Mixture {
         let c1 = big_a + w * big_b * big_b - u * big_b - u * big_b * big_b;
         let c0 = -(big_a * big_b + w * big_b * big_b + w * big_b * big_b * big_b);
         let roots = crate::cubic::solve_cubic(c2, c1, c0);
-        let physical: Vec<f64> = roots.as_slice().iter().copied().filter(|&z| z > big_b).collect();
+        let physical: Vec<f64> = roots
+            .as_slice()
+            .iter()
+            .copied()
+            .filter(|&z| z > big_b)
+            .collect();
         let z = match (which, physical.as_slice()) {
             (_, []) => roots.largest(),
             (Root::Liquid, r) => r[0],
@@ -344,7 +400,8 @@ impl Mixture {
         let ln_zb = (z - big_b).ln();
         for (k, c) in self.components.iter().enumerate() {
             let bi = c.co_volume() / mp.b;
-            out[k] = bi * (z - 1.0) - ln_zb - big_a / big_b * (2.0 * mp.a_row[k] / mp.a - bi) * i_term;
+            out[k] =
+                bi * (z - 1.0) - ln_zb - big_a / big_b * (2.0 * mp.a_row[k] / mp.a - bi) * i_term;
         }
         z
     }
@@ -387,7 +444,12 @@ impl Mixture {
 
     fn phase(&self, t: f64, p: f64, x: &[f64], which: Root) -> MixturePhase {
         let (z, _) = self.root(t, p, x, which);
-        let shift: f64 = self.components.iter().zip(x).map(|(c, xi)| xi * c.volume_shift_m3_per_mol()).sum();
+        let shift: f64 = self
+            .components
+            .iter()
+            .zip(x)
+            .map(|(c, xi)| xi * c.volume_shift_m3_per_mol())
+            .sum();
         let v = z * R * t / p - shift;
         let m = self.molar_mass(x);
         let (h, s) = match (self.reference, self.absolute_terms(t, p, x, which)) {
@@ -433,7 +495,11 @@ impl Mixture {
     fn check_t(&self, t: f64) -> Result<f64, Error> {
         let t = positive("temperature_k", t)?;
         let t_min = self.minimum_temperature_k();
-        let t_max = self.components.iter().map(|c| c.critical_temperature_k()).fold(0.0, f64::max);
+        let t_max = self
+            .components
+            .iter()
+            .map(|c| c.critical_temperature_k())
+            .fold(0.0, f64::max);
         if t < t_min || t >= t_max {
             return Err(Error::out_of_range("temperature_k", t, t_min, t_max, "K"));
         }
@@ -463,18 +529,32 @@ impl Mixture {
     /// Successive substitution for the bubble (or dew) pressure at `t`.
     fn boundary_pressure(&self, t: f64, bubble: bool) -> Result<PhaseBoundaryPoint, Error> {
         let n = self.z.len();
-        let wf: Vec<f64> = self.components.iter().map(|c| Self::wilson_factor(c, t)).collect();
+        let wf: Vec<f64> = self
+            .components
+            .iter()
+            .map(|c| Self::wilson_factor(c, t))
+            .collect();
         let mut p = if bubble {
             self.z.iter().zip(&wf).map(|(x, f)| x * f).sum::<f64>()
         } else {
             1.0 / self.z.iter().zip(&wf).map(|(y, f)| y / f).sum::<f64>()
         };
         let mut other: Vec<f64> = (0..n)
-            .map(|i| if bubble { self.z[i] * wf[i] / p } else { self.z[i] * p / wf[i] })
+            .map(|i| {
+                if bubble {
+                    self.z[i] * wf[i] / p
+                } else {
+                    self.z[i] * p / wf[i]
+                }
+            })
             .collect();
         normalize(&mut other);
         let (mut lf, mut lo) = (vec![0.0; n], vec![0.0; n]);
-        let (feed_root, other_root) = if bubble { (Root::Liquid, Root::Vapor) } else { (Root::Vapor, Root::Liquid) };
+        let (feed_root, other_root) = if bubble {
+            (Root::Liquid, Root::Vapor)
+        } else {
+            (Root::Vapor, Root::Liquid)
+        };
         for _ in 0..MAX_ITERATIONS {
             self.ln_phi(t, p, &self.z, feed_root, &mut lf);
             self.ln_phi(t, p, &other, other_root, &mut lo);
@@ -483,7 +563,11 @@ impl Mixture {
             let mut next = vec![0.0; n];
             let mut trivial = true;
             for i in 0..n {
-                let k = if bubble { (lf[i] - lo[i]).exp() } else { (lo[i] - lf[i]).exp() };
+                let k = if bubble {
+                    (lf[i] - lo[i]).exp()
+                } else {
+                    (lo[i] - lf[i]).exp()
+                };
                 if (k - 1.0).abs() > 1e-6 {
                     trivial = false;
                 }
@@ -496,7 +580,11 @@ impl Mixture {
             for v in next.iter_mut() {
                 *v /= s;
             }
-            let change = next.iter().zip(&other).map(|(a, b)| (a - b).abs()).fold(0.0, f64::max);
+            let change = next
+                .iter()
+                .zip(&other)
+                .map(|(a, b)| (a - b).abs())
+                .fold(0.0, f64::max);
             p = if bubble { p * s } else { p / s };
             other = next;
             if !p.is_finite() || p <= 0.0 {
@@ -513,7 +601,11 @@ impl Mixture {
             }
         }
         Err(Error::no_convergence(
-            if bubble { "bubble pressure" } else { "dew pressure" },
+            if bubble {
+                "bubble pressure"
+            } else {
+                "dew pressure"
+            },
             format!("no convergence at T = {t} K within {MAX_ITERATIONS} iterations"),
         ))
     }
@@ -552,7 +644,11 @@ impl Mixture {
     fn boundary_temperature(&self, p: f64, bubble: bool) -> Result<PhaseBoundaryPoint, Error> {
         let p = positive("pressure_pa", p)?;
         let t_min = self.minimum_temperature_k();
-        let t_max = self.components.iter().map(|c| c.critical_temperature_k()).fold(0.0, f64::max);
+        let t_max = self
+            .components
+            .iter()
+            .map(|c| c.critical_temperature_k())
+            .fold(0.0, f64::max);
         // The pressure range: between the boundary pressure at the lowest temperature and
         // the highest temperature at which the boundary still exists.
         let p_low = self.boundary_pressure(t_min, bubble)?.pressure_pa;
@@ -577,7 +673,9 @@ impl Mixture {
             )
         };
         let below = |t: f64| {
-            self.boundary_pressure(t, bubble).map(|pt| pt.pressure_pa < p).map_err(envelope_end)
+            self.boundary_pressure(t, bubble)
+                .map(|pt| pt.pressure_pa < p)
+                .map_err(envelope_end)
         };
         let mut lo = (estimate - step).max(t_min);
         while !below(lo)? {
@@ -594,7 +692,10 @@ impl Mixture {
                 _ => {
                     // The boundary ends (mixture critical region) before reaching p: find
                     // how far it goes for the message.
-                    let p_top = self.boundary_pressure(lo, bubble).map_err(envelope_end)?.pressure_pa;
+                    let p_top = self
+                        .boundary_pressure(lo, bubble)
+                        .map_err(envelope_end)?
+                        .pressure_pa;
                     return Err(Error::outside_envelope(
                         "pressure_pa",
                         p,
@@ -606,7 +707,11 @@ impl Mixture {
                 }
             }
         }
-        let gap = BoundaryGap { mixture: self, ln_p: p.ln(), bubble };
+        let gap = BoundaryGap {
+            mixture: self,
+            ln_p: p.ln(),
+            bubble,
+        };
         let t = Executor::new(gap, BrentRoot::new(lo, hi, 1e-11))
             .configure(|s| s.max_iters(200))
             .run()
@@ -624,9 +729,18 @@ impl Mixture {
     fn wilson_temperature(&self, p: f64, bubble: bool, t_min: f64, t_max: f64) -> f64 {
         let gap = |t: f64| {
             let s: f64 = if bubble {
-                self.components.iter().zip(&self.z).map(|(c, x)| x * Self::wilson_factor(c, t) / p).sum()
+                self.components
+                    .iter()
+                    .zip(&self.z)
+                    .map(|(c, x)| x * Self::wilson_factor(c, t) / p)
+                    .sum()
             } else {
-                1.0 / self.components.iter().zip(&self.z).map(|(c, y)| y * p / Self::wilson_factor(c, t)).sum::<f64>()
+                1.0 / self
+                    .components
+                    .iter()
+                    .zip(&self.z)
+                    .map(|(c, y)| y * p / Self::wilson_factor(c, t))
+                    .sum::<f64>()
             };
             s - 1.0
         };
@@ -650,19 +764,42 @@ impl Mixture {
         let feed_root = self.stable_root_for(t, p, &self.z);
         let mut lz = vec![0.0; n];
         self.ln_phi(t, p, &self.z, feed_root, &mut lz);
-        let d: Vec<f64> = (0..n).map(|i| if self.z[i] > 0.0 { self.z[i].ln() + lz[i] } else { f64::NEG_INFINITY }).collect();
-        let wilson: Vec<f64> = self.components.iter().map(|c| Self::wilson_factor(c, t) / p).collect();
+        let d: Vec<f64> = (0..n)
+            .map(|i| {
+                if self.z[i] > 0.0 {
+                    self.z[i].ln() + lz[i]
+                } else {
+                    f64::NEG_INFINITY
+                }
+            })
+            .collect();
+        let wilson: Vec<f64> = self
+            .components
+            .iter()
+            .map(|c| Self::wilson_factor(c, t) / p)
+            .collect();
         let mut lw = vec![0.0; n];
         for trial in [Root::Vapor, Root::Liquid] {
             let mut w: Vec<f64> = (0..n)
-                .map(|i| if trial == Root::Vapor { self.z[i] * wilson[i] } else { self.z[i] / wilson[i] })
+                .map(|i| {
+                    if trial == Root::Vapor {
+                        self.z[i] * wilson[i]
+                    } else {
+                        self.z[i] / wilson[i]
+                    }
+                })
                 .collect();
             for _ in 0..MAX_ITERATIONS {
                 let total: f64 = w.iter().sum();
                 let x: Vec<f64> = w.iter().map(|v| v / total).collect();
                 self.ln_phi(t, p, &x, trial, &mut lw);
                 let next: Vec<f64> = (0..n).map(|i| (d[i] - lw[i]).exp()).collect();
-                let change = next.iter().zip(&w).map(|(a, b)| (a.ln() - b.ln()).abs()).filter(|v| v.is_finite()).fold(0.0, f64::max);
+                let change = next
+                    .iter()
+                    .zip(&w)
+                    .map(|(a, b)| (a.ln() - b.ln()).abs())
+                    .filter(|v| v.is_finite())
+                    .fold(0.0, f64::max);
                 w = next;
                 if change < 1e-10 {
                     break;
@@ -670,7 +807,11 @@ impl Mixture {
             }
             let total: f64 = w.iter().sum();
             let x: Vec<f64> = w.iter().map(|v| v / total).collect();
-            let distance = x.iter().zip(&self.z).map(|(a, b)| (a - b).abs()).fold(0.0, f64::max);
+            let distance = x
+                .iter()
+                .zip(&self.z)
+                .map(|(a, b)| (a - b).abs())
+                .fold(0.0, f64::max);
             // Tangent-plane distance (modified): 1 - sum W < 0 means an unstable feed.
             if total > 1.0 + 1e-8 && distance > 1e-6 {
                 let k = (0..n)
@@ -709,29 +850,45 @@ impl Mixture {
         };
         let Some(mut k) = self.stability(t, p) else {
             let root = self.stable_root_for(t, p, &self.z);
-            return Ok(single(self, root, if root == Root::Vapor { 1.0 } else { 0.0 }));
+            return Ok(single(
+                self,
+                root,
+                if root == Root::Vapor { 1.0 } else { 0.0 },
+            ));
         };
         let n = self.z.len();
         let (mut lx, mut ly) = (vec![0.0; n], vec![0.0; n]);
         for _ in 0..MAX_ITERATIONS {
             let beta = rachford_rice(&self.z, &k)?;
             if beta <= 0.0 || beta >= 1.0 {
-                let root = if beta <= 0.0 { Root::Liquid } else { Root::Vapor };
+                let root = if beta <= 0.0 {
+                    Root::Liquid
+                } else {
+                    Root::Vapor
+                };
                 return Ok(single(self, root, beta.clamp(0.0, 1.0)));
             }
-            let x: Vec<f64> = (0..n).map(|i| self.z[i] / (1.0 + beta * (k[i] - 1.0))).collect();
+            let x: Vec<f64> = (0..n)
+                .map(|i| self.z[i] / (1.0 + beta * (k[i] - 1.0)))
+                .collect();
             let y: Vec<f64> = (0..n).map(|i| k[i] * x[i]).collect();
             self.ln_phi(t, p, &x, Root::Liquid, &mut lx);
             self.ln_phi(t, p, &y, Root::Vapor, &mut ly);
             let next: Vec<f64> = (0..n).map(|i| (lx[i] - ly[i]).exp()).collect();
-            let change = next.iter().zip(&k).map(|(a, b)| (a.ln() - b.ln()).abs()).fold(0.0, f64::max);
+            let change = next
+                .iter()
+                .zip(&k)
+                .map(|(a, b)| (a.ln() - b.ln()).abs())
+                .fold(0.0, f64::max);
             k = next;
             if change < 1e-12 {
                 break;
             }
         }
         let beta = rachford_rice(&self.z, &k)?.clamp(0.0, 1.0);
-        let mut x: Vec<f64> = (0..n).map(|i| self.z[i] / (1.0 + beta * (k[i] - 1.0))).collect();
+        let mut x: Vec<f64> = (0..n)
+            .map(|i| self.z[i] / (1.0 + beta * (k[i] - 1.0)))
+            .collect();
         let mut y: Vec<f64> = (0..n).map(|i| k[i] * x[i]).collect();
         normalize(&mut x);
         normalize(&mut y);
@@ -756,9 +913,15 @@ impl Mixture {
 impl Mixture {
     /// Pseudo-critical temperature and pressure (Kay's rule).
     pub fn pseudo_critical(&self) -> (f64, f64) {
-        self.components.iter().zip(&self.z).fold((0.0, 0.0), |(t, p), (c, x)| {
-            (t + x * c.critical_temperature_k(), p + x * c.critical_pressure_pa())
-        })
+        self.components
+            .iter()
+            .zip(&self.z)
+            .fold((0.0, 0.0), |(t, p), (c, x)| {
+                (
+                    t + x * c.critical_temperature_k(),
+                    p + x * c.critical_pressure_pa(),
+                )
+            })
     }
 
     /// Classifies the feed at (T, P) and computes its margins to the bubble and dew points.
@@ -767,7 +930,13 @@ impl Mixture {
         let p = positive("pressure_pa", pressure_pa)?;
         let t_min = self.minimum_temperature_k();
         if t < t_min {
-            return Err(Error::out_of_range("temperature_k", t, t_min, f64::INFINITY, "K"));
+            return Err(Error::out_of_range(
+                "temperature_k",
+                t,
+                t_min,
+                f64::INFINITY,
+                "K",
+            ));
         }
         let (tc, pc) = self.pseudo_critical();
         if p > 100.0 * pc {
@@ -786,7 +955,11 @@ impl Mixture {
         } else if dew_p.is_some_and(|pd| p <= pd) {
             Phase::SuperheatedVapor
         } else if t >= tc {
-            if p >= pc { Phase::SupercriticalFluid } else { Phase::GasAboveCriticalTemperature }
+            if p >= pc {
+                Phase::SupercriticalFluid
+            } else {
+                Phase::GasAboveCriticalTemperature
+            }
         } else if flash.vapor_fraction >= 1.0 {
             Phase::SuperheatedVapor
         } else {
@@ -818,7 +991,10 @@ impl Mixture {
 /// when the feed lies outside the two-phase region for these K-values.
 pub fn rachford_rice(z: &[f64], k: &[f64]) -> Result<f64, Error> {
     let f = |beta: f64| -> f64 {
-        z.iter().zip(k).map(|(zi, ki)| zi * (ki - 1.0) / (1.0 + beta * (ki - 1.0))).sum()
+        z.iter()
+            .zip(k)
+            .map(|(zi, ki)| zi * (ki - 1.0) / (1.0 + beta * (ki - 1.0)))
+            .sum()
     };
     if f(0.0) <= 0.0 {
         return Ok(0.0);
@@ -834,7 +1010,12 @@ pub fn rachford_rice(z: &[f64], k: &[f64]) -> Result<f64, Error> {
         type Param = f64;
         type Output = f64;
         fn cost(&self, beta: &f64) -> Result<f64, argmin::core::Error> {
-            Ok(self.z.iter().zip(self.k).map(|(zi, ki)| zi * (ki - 1.0) / (1.0 + beta * (ki - 1.0))).sum())
+            Ok(self
+                .z
+                .iter()
+                .zip(self.k)
+                .map(|(zi, ki)| zi * (ki - 1.0) / (1.0 + beta * (ki - 1.0)))
+                .sum())
         }
     }
     Executor::new(Rr { z, k }, BrentRoot::new(0.0, 1.0, 1e-14))
@@ -891,7 +1072,8 @@ impl KijCost<'_> {
         self.data
             .iter()
             .map(|d| {
-                let mix = Mixture::new(self.pair.to_vec(), vec![d.x1, 1.0 - d.x1], Some(k.clone()))?;
+                let mix =
+                    Mixture::new(self.pair.to_vec(), vec![d.x1, 1.0 - d.x1], Some(k.clone()))?;
                 let p = mix.bubble_at_temperature(d.temperature_k)?.pressure_pa;
                 Ok((d.temperature_k, p, d.pressure_pa))
             })
@@ -904,7 +1086,11 @@ impl CostFunction for KijCost<'_> {
     type Output = f64;
     fn cost(&self, kij: &f64) -> Result<f64, argmin::core::Error> {
         let rows = self.deviations(*kij)?;
-        Ok(rows.iter().map(|(_, m, r)| (m / r).ln().powi(2)).sum::<f64>() / rows.len() as f64)
+        Ok(rows
+            .iter()
+            .map(|(_, m, r)| (m / r).ln().powi(2))
+            .sum::<f64>()
+            / rows.len() as f64)
     }
 }
 
@@ -916,7 +1102,11 @@ pub fn fit_kij(
     data: &[BinaryBubblePoint],
 ) -> Result<(f64, crate::Deviation), Error> {
     if data.is_empty() {
-        return Err(Error::invalid("data", 0.0, "a k_ij fit needs at least one bubble point"));
+        return Err(Error::invalid(
+            "data",
+            0.0,
+            "a k_ij fit needs at least one bubble point",
+        ));
     }
     let cost = KijCost { pair, data };
     let solver = argmin::solver::brent::BrentOpt::new(-0.3, 0.3).set_tolerance(1.5e-8, 1e-9);

@@ -7,8 +7,8 @@
 //! roots, and the fugacity gap `F(ln P) = ln phi_L - ln phi_V` falls monotonically
 //! (`dF/d ln P = Z_L - Z_V < 0`) from positive to negative. Its zero is the vapor pressure.
 
-use crate::eos::{PhaseProperties, PureEos};
 use crate::curve::SolvePath;
+use crate::eos::{PhaseProperties, PureEos};
 use crate::error::{Error, ErrorKind};
 use crate::fluid::GAS_CONSTANT as R;
 use crate::model::Model;

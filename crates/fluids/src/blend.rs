@@ -31,11 +31,15 @@ impl BlendRecord {
     pub fn is_named(&self, name: &str) -> bool {
         let key = normalize(name);
         !key.is_empty()
-            && [Some(&self.id), Some(&self.name), self.ashrae_number.as_ref()]
-                .into_iter()
-                .flatten()
-                .chain(self.aliases.iter())
-                .any(|n| normalize(n) == key)
+            && [
+                Some(&self.id),
+                Some(&self.name),
+                self.ashrae_number.as_ref(),
+            ]
+            .into_iter()
+            .flatten()
+            .chain(self.aliases.iter())
+            .any(|n| normalize(n) == key)
     }
 }
 
@@ -75,24 +79,36 @@ struct RawComponent {
 }
 
 /// Parses `data/blends.toml`; every problem is a message naming the blend and field.
-pub(crate) fn parse(text: &str, known_fluid: impl Fn(&str) -> bool) -> Result<Vec<BlendRecord>, String> {
+pub(crate) fn parse(
+    text: &str,
+    known_fluid: impl Fn(&str) -> bool,
+) -> Result<Vec<BlendRecord>, String> {
     let file: File = toml::from_str(text).map_err(|e| e.to_string())?;
     let cite = |key: &str| {
-        file.sources.get(key).cloned().ok_or_else(|| format!("unknown source key `{key}`"))
+        file.sources
+            .get(key)
+            .cloned()
+            .ok_or_else(|| format!("unknown source key `{key}`"))
     };
     file.blend
         .into_iter()
         .map(|b| {
             let sum: f64 = b.components.iter().map(|c| c.mass_fraction).sum();
             if (sum - 1.0).abs() > 1e-9 {
-                return Err(format!("blend {}: mass fractions sum to {sum}, not 1", b.id));
+                return Err(format!(
+                    "blend {}: mass fractions sum to {sum}, not 1",
+                    b.id
+                ));
             }
             for c in &b.components {
                 if !known_fluid(&c.fluid) {
                     return Err(format!("blend {}: unknown component `{}`", b.id, c.fluid));
                 }
-                if !(c.mass_fraction > 0.0) {
-                    return Err(format!("blend {}: component {} has fraction {}", b.id, c.fluid, c.mass_fraction));
+                if c.mass_fraction.is_nan() || c.mass_fraction <= 0.0 {
+                    return Err(format!(
+                        "blend {}: component {} has fraction {}",
+                        b.id, c.fluid, c.mass_fraction
+                    ));
                 }
             }
             let safety_class = match &b.safety_class {
@@ -102,7 +118,9 @@ pub(crate) fn parse(text: &str, known_fluid: impl Fn(&str) -> bool) -> Result<Ve
                         SafetyClass::ALL
                             .into_iter()
                             .find(|c| c.as_str() == s.value)
-                            .ok_or_else(|| format!("blend {}: unknown safety class {}", b.id, s.value))?,
+                            .ok_or_else(|| {
+                                format!("blend {}: unknown safety class {}", b.id, s.value)
+                            })?,
                     )
                 }
                 None => None,
@@ -115,7 +133,11 @@ pub(crate) fn parse(text: &str, known_fluid: impl Fn(&str) -> bool) -> Result<Ve
                 aliases: b.aliases,
                 caution: b.caution,
                 safety_class,
-                components: b.components.into_iter().map(|c| (c.fluid, c.mass_fraction)).collect(),
+                components: b
+                    .components
+                    .into_iter()
+                    .map(|c| (c.fluid, c.mass_fraction))
+                    .collect(),
             })
         })
         .collect()

@@ -166,7 +166,11 @@ impl Catalogue {
         }
         let mut fluids = self.fluids.clone();
         fluids.extend(parsed.records);
-        Ok(Catalogue { fluids, index, blends: self.blends.clone() })
+        Ok(Catalogue {
+            fluids,
+            index,
+            blends: self.blends.clone(),
+        })
     }
 
     /// The fluid known by `name`: its id, display name, ASHRAE number, chemical name, CAS
@@ -201,7 +205,12 @@ impl Catalogue {
         blend
             .components
             .iter()
-            .map(|(id, w)| (self.get(id).expect("blend components are checked on load"), *w))
+            .map(|(id, w)| {
+                (
+                    self.get(id).expect("blend components are checked on load"),
+                    *w,
+                )
+            })
             .collect()
     }
 
@@ -304,7 +313,11 @@ fn load_builtin() -> Catalogue {
         fluids.iter().any(|f| f.id == id)
     })
     .unwrap_or_else(|e| panic!("data/blends.toml: {e}"));
-    Catalogue { fluids, index, blends }
+    Catalogue {
+        fluids,
+        index,
+        blends,
+    }
 }
 
 #[cfg(test)]

@@ -8,6 +8,7 @@ use std::time::{Duration, Instant};
 use anyhow::Context as _;
 use binodal_proto::v1 as pb;
 use binodal_proto::v1::phase_service_client::PhaseServiceClient;
+use prost::Message as _;
 use tonic::transport::{Channel, Endpoint};
 use tonic_health::pb::HealthCheckRequest;
 use tonic_health::pb::health_client::HealthClient;
@@ -59,6 +60,8 @@ pub struct Outcome {
     pub point_errors: u64,
     /// The first failure's message.
     pub first_error: Option<String>,
+    /// Encoded size of one answer, bytes.
+    pub response_bytes: usize,
     /// Wall time from the first send to the last answer, s.
     pub elapsed_s: f64,
     /// Latencies of the successful calls, ns, sorted.
@@ -66,6 +69,21 @@ pub struct Outcome {
 }
 
 impl Outcome {
+    /// Adds another measurement of the same scenario (a later round) to this one.
+    pub fn merge(&mut self, other: Outcome) {
+        self.calls += other.calls;
+        self.points += other.points;
+        self.errors += other.errors;
+        self.point_errors += other.point_errors;
+        if self.first_error.is_none() {
+            self.first_error = other.first_error;
+        }
+        self.response_bytes = self.response_bytes.max(other.response_bytes);
+        self.elapsed_s += other.elapsed_s;
+        self.latencies_ns.extend(other.latencies_ns);
+        self.latencies_ns.sort_unstable();
+    }
+
     /// Successful calls per second.
     pub fn requests_per_second(&self) -> f64 {
         self.calls as f64 / self.elapsed_s
@@ -228,7 +246,9 @@ impl Plan {
                 Ok(worker) => worker,
                 Err(e) => {
                     outcome.errors += 1;
-                    outcome.first_error.get_or_insert(format!("worker failed: {e}"));
+                    outcome
+                        .first_error
+                        .get_or_insert(format!("worker failed: {e}"));
                     continue;
                 }
             };
@@ -239,6 +259,7 @@ impl Plan {
             if outcome.first_error.is_none() {
                 outcome.first_error = worker.first_error;
             }
+            outcome.response_bytes = outcome.response_bytes.max(worker.response_bytes);
             outcome.latencies_ns.extend(worker.latencies_ns);
         }
         outcome.elapsed_s = start.elapsed().as_secs_f64();
@@ -262,6 +283,7 @@ struct Caller {
 #[derive(Default)]
 struct WorkerTally {
     latencies_ns: Vec<u64>,
+    response_bytes: usize,
     points: u64,
     errors: u64,
     point_errors: u64,
@@ -279,17 +301,19 @@ impl Caller {
         while Instant::now() < deadline {
             k = k.wrapping_add(1);
             let sent = Instant::now();
-            match tokio::time::timeout(CALL_TIMEOUT, self.call(k)).await {
-                Ok(Ok((points, point_errors))) => {
+            let measure = tally.response_bytes == 0;
+            match tokio::time::timeout(CALL_TIMEOUT, self.call(k, measure)).await {
+                Ok(Ok((points, point_errors, bytes))) => {
                     tally.latencies_ns.push(sent.elapsed().as_nanos() as u64);
+                    tally.response_bytes = tally.response_bytes.max(bytes);
                     tally.points += points;
                     tally.point_errors += point_errors;
                 }
                 Ok(Err(status)) => {
                     tally.errors += 1;
-                    tally
-                        .first_error
-                        .get_or_insert_with(|| format!("{:?}: {}", status.code(), status.message()));
+                    tally.first_error.get_or_insert_with(|| {
+                        format!("{:?}: {}", status.code(), status.message())
+                    });
                 }
                 Err(_) => {
                     tally.errors += 1;
@@ -302,45 +326,57 @@ impl Caller {
         tally
     }
 
-    /// One call; returns (points answered, points failed).
-    async fn call(&mut self, k: usize) -> Result<(u64, u64), tonic::Status> {
+    /// One call; returns (points answered, points failed, encoded answer size in bytes, which is
+    /// measured only when `measure` is set).
+    async fn call(&mut self, k: usize, measure: bool) -> Result<(u64, u64, usize), tonic::Status> {
+        let size = |m: &dyn Fn() -> usize| if measure { m() } else { 0 };
         match self.scenario {
             Scenario::Health => {
-                self.health
+                let answer = self
+                    .health
                     .check(HealthCheckRequest {
                         service: "binodal.v1.PhaseService".into(),
                     })
-                    .await?;
-                Ok((1, 0))
+                    .await?
+                    .into_inner();
+                Ok((1, 0, size(&|| answer.encoded_len())))
             }
             Scenario::State => {
                 let (t, p) = self.points[k % self.points.len()];
-                self.phase
+                let answer = self
+                    .phase
                     .get_state(pb::GetStateRequest {
                         fluid: Some(self.selector.clone()),
                         temperature_k: t,
                         pressure_pa: p,
                         ..Default::default()
                     })
-                    .await?;
-                Ok((1, 0))
+                    .await?
+                    .into_inner();
+                Ok((1, 0, size(&|| answer.encoded_len())))
             }
             Scenario::Saturation => {
                 let t = self.saturation_temperatures[k % self.saturation_temperatures.len()];
-                self.phase
+                let answer = self
+                    .phase
                     .get_saturation(pb::GetSaturationRequest {
                         fluid: Some(self.selector.clone()),
                         condition: Some(pb::get_saturation_request::Condition::TemperatureK(t)),
                         ..Default::default()
                     })
-                    .await?;
-                Ok((1, 0))
+                    .await?
+                    .into_inner();
+                Ok((1, 0, size(&|| answer.encoded_len())))
             }
             Scenario::Batch => {
                 let request = (*self.batch).clone();
                 let n = request.temperatures_k.len() as u64;
                 let answer = self.phase.get_state_batch(request).await?.into_inner();
-                Ok((n, answer.errors.len() as u64))
+                Ok((
+                    n,
+                    answer.errors.len() as u64,
+                    size(&|| answer.encoded_len()),
+                ))
             }
         }
     }

@@ -1,7 +1,9 @@
 //! `binodal-load`: drives a running binodal server with C connections and K requests in flight
 //! for a fixed, bounded time per scenario, and reports requests per second, points per second,
 //! p50, p99 and errors. The server's health check (`grpc.health.v1.Health/Check`) is measured in
-//! the same run as the framework floor, and every binodal RPC is reported as a ratio to it.
+//! the same run as the framework floor, and every binodal RPC is reported as a ratio to it. The
+//! scenarios take turns in short rounds, so that the machine's background load weighs on the
+//! floor and the RPCs alike.
 //!
 //! The tool only talks to loopback addresses unless `--allow-remote` is given, every call has a
 //! timeout, and every scenario stops at its deadline: a run ends by itself.
@@ -36,6 +38,11 @@ struct Flags {
     /// Unmeasured warm-up seconds before each scenario (0 to 60).
     #[arg(long, default_value_t = 2, value_parser = clap::value_parser!(u64).range(0..=60))]
     warm_up_seconds: u64,
+    /// Rounds: each scenario's measured time is cut into this many slices, and the scenarios
+    /// take turns slice by slice, so that a change in the machine's background load during the
+    /// run weighs on the health floor and the RPCs alike (1 to 60).
+    #[arg(long, default_value_t = 5, value_parser = clap::value_parser!(u32).range(1..=60))]
+    rounds: u32,
     /// Scenarios to run, in order; the health check always runs first as the floor.
     #[arg(long, value_delimiter = ',', default_value = "state,batch")]
     scenarios: Vec<ScenarioFlag>,
@@ -88,13 +95,18 @@ async fn run(flags: Flags) -> anyhow::Result<()> {
         flags.batch_points as usize,
     )
     .await?;
-    let duration = Duration::from_secs(flags.seconds);
+    let slice = Duration::from_secs(flags.seconds) / flags.rounds;
     let warm_up = Duration::from_secs(flags.warm_up_seconds);
     let cpus = std::thread::available_parallelism().map_or(0, |n| n.get());
     println!(
-        "binodal-load: {} | {} connection(s), {} in flight | {} s per scenario after {} s warm-up \
-         | {} tool thread(s) | {cpus} CPU(s) on this machine",
-        flags.address, flags.connections, flags.in_flight, flags.seconds, flags.warm_up_seconds,
+        "binodal-load: {} | {} connection(s), {} in flight | {} s per scenario in {} rounds, \
+         after {} s warm-up | {} tool thread(s) | {cpus} CPU(s) on this machine",
+        flags.address,
+        flags.connections,
+        flags.in_flight,
+        flags.seconds,
+        flags.rounds,
+        flags.warm_up_seconds,
         flags.threads
     );
     println!(
@@ -114,13 +126,18 @@ async fn run(flags: Flags) -> anyhow::Result<()> {
         ScenarioFlag::Batch => Scenario::Batch,
         ScenarioFlag::Saturation => Scenario::Saturation,
     }));
-    let mut outcomes: Vec<(Scenario, Outcome)> = Vec::new();
-    for scenario in scenarios {
-        if !warm_up.is_zero() {
-            plan.drive(scenario, flags.in_flight as usize, warm_up).await;
+    let in_flight = flags.in_flight as usize;
+    if !warm_up.is_zero() {
+        for &scenario in &scenarios {
+            plan.drive(scenario, in_flight, warm_up).await;
         }
-        let outcome = plan.drive(scenario, flags.in_flight as usize, duration).await;
-        outcomes.push((scenario, outcome));
+    }
+    let mut outcomes: Vec<(Scenario, Outcome)> =
+        scenarios.iter().map(|&s| (s, Outcome::default())).collect();
+    for _ in 0..flags.rounds {
+        for (scenario, total) in &mut outcomes {
+            total.merge(plan.drive(*scenario, in_flight, slice).await);
+        }
     }
     print_report(&outcomes);
     Ok(())
@@ -133,8 +150,9 @@ fn print_report(outcomes: &[(Scenario, Outcome)]) {
         .map(|(_, o)| o.clone());
     println!();
     println!(
-        "{:<12} {:>11} {:>13} {:>9} {:>9} {:>8} {:>12} {:>14} {:>13}",
+        "{:<12} {:>8} {:>11} {:>13} {:>9} {:>9} {:>8} {:>12} {:>14} {:>13}",
         "rpc",
+        "bytes",
         "requests/s",
         "points/s",
         "p50 us",
@@ -158,8 +176,9 @@ fn print_report(outcomes: &[(Scenario, Outcome)]) {
             format!("{:.0}", o.points_per_second())
         };
         println!(
-            "{:<12} {:>11.0} {:>13} {:>9.0} {:>9.0} {:>8} {:>12} {:>14} {:>13}",
+            "{:<12} {:>8} {:>11.0} {:>13} {:>9.0} {:>9.0} {:>8} {:>12} {:>14} {:>13}",
             scenario.name(),
+            o.response_bytes,
             o.requests_per_second(),
             points,
             o.p50_us(),

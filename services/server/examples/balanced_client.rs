@@ -72,12 +72,15 @@ async fn main() -> anyhow::Result<()> {
         None => None,
     };
     let channel = balanced_channel(&flags.servers).context("bad server address")?;
-    let client = PhaseServiceClient::with_interceptor(channel, move |mut request: tonic::Request<()>| {
-        if let Some(value) = &authorization {
-            request.metadata_mut().insert("authorization", value.clone());
-        }
-        Ok(request)
-    });
+    let client =
+        PhaseServiceClient::with_interceptor(channel, move |mut request: tonic::Request<()>| {
+            if let Some(value) = &authorization {
+                request
+                    .metadata_mut()
+                    .insert("authorization", value.clone());
+            }
+            Ok(request)
+        });
 
     let next = Arc::new(std::sync::atomic::AtomicU32::new(0));
     let started = Instant::now();

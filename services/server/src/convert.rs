@@ -30,8 +30,12 @@ pub enum FluidRequest<'a> {
 const FRACTION_SUM_TOLERANCE: f64 = 1e-6;
 
 /// Reads and checks a fluid selector.
-pub fn fluid_request(selector: Option<&pb::FluidSelector>) -> Result<FluidRequest<'_>, ServiceError> {
-    if let Some(pb::fluid_selector::Choice::Mixture(mixture)) = selector.and_then(|s| s.choice.as_ref()) {
+pub fn fluid_request(
+    selector: Option<&pb::FluidSelector>,
+) -> Result<FluidRequest<'_>, ServiceError> {
+    if let Some(pb::fluid_selector::Choice::Mixture(mixture)) =
+        selector.and_then(|s| s.choice.as_ref())
+    {
         let mass_basis = match pb::FractionBasis::try_from(mixture.fraction_basis) {
             Ok(pb::FractionBasis::Mass) => true,
             Ok(pb::FractionBasis::Mole) => false,
@@ -46,7 +50,10 @@ pub fn fluid_request(selector: Option<&pb::FluidSelector>) -> Result<FluidReques
             }
         };
         if mixture.components.is_empty() {
-            return Err(ServiceError::field("fluid.mixture.components", "empty: give at least one component"));
+            return Err(ServiceError::field(
+                "fluid.mixture.components",
+                "empty: give at least one component",
+            ));
         }
         if mixture.components.len() > 20 {
             return Err(ServiceError::field(
@@ -59,20 +66,36 @@ pub fn fluid_request(selector: Option<&pb::FluidSelector>) -> Result<FluidReques
             if !(c.fraction.is_finite() && c.fraction > 0.0) {
                 return Err(ServiceError::field(
                     format!("fluid.mixture.components[{i}].fraction"),
-                    format!("{} must be a finite number above 0 and at most 1", c.fraction),
+                    format!(
+                        "{} must be a finite number above 0 and at most 1",
+                        c.fraction
+                    ),
                 ));
             }
             if c.fluid.trim().is_empty() {
-                return Err(ServiceError::field(format!("fluid.mixture.components[{i}].fluid"), "empty name"));
+                return Err(ServiceError::field(
+                    format!("fluid.mixture.components[{i}].fluid"),
+                    "empty name",
+                ));
             }
             sum += c.fraction;
         }
         let mut warnings = Vec::new();
         if (sum - 1.0).abs() > FRACTION_SUM_TOLERANCE {
-            warnings.push(format!("mixture fractions summed to {sum}; they were normalised to sum to 1"));
+            warnings.push(format!(
+                "mixture fractions summed to {sum}; they were normalised to sum to 1"
+            ));
         }
-        let parts = mixture.components.iter().map(|c| (c.fluid.clone(), c.fraction / sum)).collect();
-        return Ok(FluidRequest::Mixture { parts, mass_basis, warnings });
+        let parts = mixture
+            .components
+            .iter()
+            .map(|c| (c.fluid.clone(), c.fraction / sum))
+            .collect();
+        return Ok(FluidRequest::Mixture {
+            parts,
+            mass_basis,
+            warnings,
+        });
     }
     fluid_name(selector).map(FluidRequest::Name)
 }
@@ -196,7 +219,10 @@ pub fn class_matches(class: Option<SafetyClass>, wanted: i32) -> bool {
 }
 
 /// A listing entry for a blend.
-pub fn blend_summary(blend: &binodal_fluids::BlendRecord, catalogue: &binodal_fluids::Catalogue) -> pb::FluidSummary {
+pub fn blend_summary(
+    blend: &binodal_fluids::BlendRecord,
+    catalogue: &binodal_fluids::Catalogue,
+) -> pb::FluidSummary {
     pb::FluidSummary {
         fluid_id: blend.id.clone(),
         display_name: blend.name.clone(),
@@ -207,10 +233,16 @@ pub fn blend_summary(blend: &binodal_fluids::BlendRecord, catalogue: &binodal_fl
     }
 }
 
-fn blend_composition_text(blend: &binodal_fluids::BlendRecord, catalogue: &binodal_fluids::Catalogue) -> String {
+fn blend_composition_text(
+    blend: &binodal_fluids::BlendRecord,
+    catalogue: &binodal_fluids::Catalogue,
+) -> String {
     let parts = catalogue.blend_components(blend);
     let names: Vec<&str> = parts.iter().map(|(f, _)| f.name.as_str()).collect();
-    let shares: Vec<String> = parts.iter().map(|(_, w)| format!("{}", (w * 1000.0).round() / 10.0)).collect();
+    let shares: Vec<String> = parts
+        .iter()
+        .map(|(_, w)| format!("{}", (w * 1000.0).round() / 10.0))
+        .collect();
     format!("{} ({} % by mass)", names.join("/"), shares.join("/"))
 }
 
@@ -276,6 +308,8 @@ pub fn blend_description(
             "critical_temperature_k, critical_pressure_pa: pseudo-critical values (Kay's rule, mole-fraction averages of the components), not the blend's true critical point".into(),
         ],
         user_defined: false,
+        estimated_sublimation_curve: Vec::new(),
+        estimated_melting_curve: Vec::new(),
     }
 }
 
@@ -311,18 +345,24 @@ fn accuracy_to_proto(record: Option<&AccuracyRecord>, model: Model) -> Option<pb
     })
 }
 
-/// What every phase answer says about how it was computed.
+/// What every phase answer says about how it was computed: prepared once per fluid, model and
+/// reference state at start-up ([`prepare_basis`]) and copied into each answer.
 pub fn basis(chosen: &Chosen<'_>) -> pb::ResultBasis {
-    let model = chosen.eos.model();
+    chosen.basis.clone()
+}
+
+/// The basis of every answer computed with `eos` for `fluid` (built once, at start-up).
+pub fn prepare_basis(fluid: &FluidRecord, eos: &binodal_eos::PureEos) -> pb::ResultBasis {
+    let model = eos.model();
     pb::ResultBasis {
-        fluid_id: chosen.fluid.id.clone(),
+        fluid_id: fluid.id.clone(),
         composition: Vec::new(),
-        molar_mass_kg_per_mol: chosen.eos.molar_mass_kg_per_mol(),
+        molar_mass_kg_per_mol: eos.molar_mass_kg_per_mol(),
         equation_of_state: model_to_proto(model) as i32,
-        alpha_function: alpha_to_proto(chosen.eos) as i32,
-        reference_state: reference_to_proto(chosen.reference) as i32,
-        expected_deviation: accuracy_to_proto(chosen.fluid.accuracy_for(model), model),
-        caution: caution(chosen.fluid),
+        alpha_function: alpha_to_proto(eos) as i32,
+        reference_state: reference_to_proto(eos.reference_state()) as i32,
+        expected_deviation: accuracy_to_proto(fluid.accuracy_for(model), model),
+        caution: caution(fluid),
         warnings: Vec::new(),
     }
 }
@@ -429,9 +469,80 @@ pub fn summary(record: &FluidRecord) -> pb::FluidSummary {
     }
 }
 
-/// A full description, with each model's alpha function and recorded accuracy.
-pub fn description(record: &FluidRecord) -> pb::FluidDescription {
+/// Number of points sent on each estimated solid boundary.
+const SOLID_CURVE_POINTS: usize = 24;
+/// Lowest temperature of the estimated sublimation curve, as a fraction of the triple-point
+/// temperature.
+const SUBLIMATION_START_FRACTION: f64 = 0.6;
+/// Highest pressure of the estimated melting line, as a multiple of the critical pressure (the
+/// top of the pressure range the engine classifies states in).
+const MELTING_END_REDUCED_PRESSURE: f64 = 100.0;
+/// Highest pressure of the estimated melting line in any case, Pa. A cap, not a validity limit:
+/// the constant-slope Clapeyron line from the triple point knows only the solid that melts there
+/// (water's ordinary ice, for one, gives way to denser forms at a few hundred MPa, from memory),
+/// so the line is least trustworthy far up.
+const MELTING_END_MAX_PRESSURE_PA: f64 = 1.0e9;
+
+/// Points of an estimated solid boundary in the pressure-temperature plane.
+pub type SolidCurve = Vec<pb::PressureTemperaturePoint>;
+
+/// The estimated solid boundaries of a pure fluid under `eos`: the sublimation curve from
+/// [`SUBLIMATION_START_FRACTION`] of the triple-point temperature up to the triple point, by
+/// rising temperature, and the melting line from the triple-point pressure up to the smaller of
+/// [`MELTING_END_REDUCED_PRESSURE`] Pc and [`MELTING_END_MAX_PRESSURE_PA`], log-spaced in
+/// pressure. Both are empty where the engine has no solid estimate (the catalogue lacks the
+/// triple point or the heat of fusion).
+pub fn solid_curves(eos: &binodal_eos::PureEos) -> (SolidCurve, SolidCurve) {
+    let Some(solid) = eos.solid_boundary() else {
+        return (Vec::new(), Vec::new());
+    };
+    let point = |temperature_k: f64, pressure_pa: f64| pb::PressureTemperaturePoint {
+        temperature_k,
+        pressure_pa,
+    };
+    let last = (SOLID_CURVE_POINTS - 1) as f64;
+    let tt = solid.triple_temperature_k;
+    let pt = solid.triple_pressure_pa;
+    let sublimation = (0..SOLID_CURVE_POINTS)
+        .map(|i| {
+            let share = i as f64 / last;
+            let t = if i + 1 == SOLID_CURVE_POINTS {
+                tt
+            } else {
+                tt * (SUBLIMATION_START_FRACTION + (1.0 - SUBLIMATION_START_FRACTION) * share)
+            };
+            point(t, solid.sublimation_pressure_pa(t))
+        })
+        .collect();
+    let top = (MELTING_END_REDUCED_PRESSURE * eos.critical_pressure_pa())
+        .min(MELTING_END_MAX_PRESSURE_PA);
+    let melting = if top > pt {
+        (0..SOLID_CURVE_POINTS)
+            .map(|i| {
+                let p = if i == 0 {
+                    pt
+                } else {
+                    pt * (top / pt).powf(i as f64 / last)
+                };
+                point(solid.solid_temperature_k(p), p)
+            })
+            .collect()
+    } else {
+        Vec::new()
+    };
+    (sublimation, melting)
+}
+
+/// A full description, with each model's alpha function and recorded accuracy. `eos` is the
+/// fluid's engine under the server's default equation of state, which the estimated solid
+/// boundaries come from; `None` (no engine) leaves them empty.
+pub fn description(
+    record: &FluidRecord,
+    eos: Option<&binodal_eos::PureEos>,
+) -> pb::FluidDescription {
     let c = &record.constants;
+    let (estimated_sublimation_curve, estimated_melting_curve) =
+        eos.map(solid_curves).unwrap_or_default();
     let models = Model::ALL
         .iter()
         .map(|&model| {
@@ -493,12 +604,18 @@ pub fn description(record: &FluidRecord) -> pb::FluidDescription {
             .map(|(field, cite)| format!("{field}: {cite}"))
             .collect(),
         user_defined: record.user_supplied,
+        estimated_sublimation_curve,
+        estimated_melting_curve,
     }
 }
 
 fn fractions(choice: &MixtureChoice, x: &[f64]) -> Vec<pb::ComponentFraction> {
     let comps = choice.mixture.components();
-    let mass_total: f64 = comps.iter().zip(x).map(|(c, xi)| xi * c.molar_mass_kg_per_mol()).sum();
+    let mass_total: f64 = comps
+        .iter()
+        .zip(x)
+        .map(|(c, xi)| xi * c.molar_mass_kg_per_mol())
+        .sum();
     choice
         .components
         .iter()
@@ -532,13 +649,21 @@ pub fn mixture_basis(choice: &MixtureChoice) -> pb::ResultBasis {
             );
             a
         });
-    let class = choice.safety_class.map(|c| format!("Safety class {}. ", c.as_str())).unwrap_or_default();
+    let class = choice
+        .safety_class
+        .map(|c| format!("Safety class {}. ", c.as_str()))
+        .unwrap_or_default();
     pb::ResultBasis {
         fluid_id: choice.id.clone(),
         composition: fractions(choice, choice.mixture.mole_fractions()),
         molar_mass_kg_per_mol: choice.mixture.molar_mass_kg_per_mol(),
         equation_of_state: model_to_proto(model) as i32,
-        alpha_function: if choice.mixture.components().iter().all(|c| c.alpha_is_fitted()) {
+        alpha_function: if choice
+            .mixture
+            .components()
+            .iter()
+            .all(|c| c.alpha_is_fitted())
+        {
             pb::AlphaFunction::FluidFit as i32
         } else {
             pb::AlphaFunction::AcentricCorrelation as i32
@@ -584,7 +709,10 @@ pub fn mixture_saturation(
         (Some(hv), Some(hl)) => hv - hl,
         _ => f64::NAN,
     };
-    let ds = match (dew.bulk.entropy_j_per_mol_k, bubble.bulk.entropy_j_per_mol_k) {
+    let ds = match (
+        dew.bulk.entropy_j_per_mol_k,
+        bubble.bulk.entropy_j_per_mol_k,
+    ) {
         (Some(sv), Some(sl)) => sv - sl,
         _ => f64::NAN,
     };
@@ -622,7 +750,10 @@ pub fn mixture_saturation(
 }
 
 /// A mixture's state answer.
-pub fn mixture_state(state: &binodal_eos::MixtureState, choice: &MixtureChoice) -> pb::GetStateResponse {
+pub fn mixture_state(
+    state: &binodal_eos::MixtureState,
+    choice: &MixtureChoice,
+) -> pb::GetStateResponse {
     let f = &state.flash;
     let properties = if f.single_phase {
         mixture_thermo(&f.liquid)
@@ -637,7 +768,8 @@ pub fn mixture_state(state: &binodal_eos::MixtureState, choice: &MixtureChoice) 
         pb::ThermoProperties {
             density_kg_per_m3: m / v,
             molar_volume_m3_per_mol: v,
-            compressibility_factor: state.pressure_pa * v / (binodal_eos::GAS_CONSTANT * state.temperature_k),
+            compressibility_factor: state.pressure_pa * v
+                / (binodal_eos::GAS_CONSTANT * state.temperature_k),
             enthalpy_j_per_mol: f.enthalpy_j_per_mol,
             enthalpy_j_per_kg: f.enthalpy_j_per_mol.map(|h| h / m),
             entropy_j_per_mol_k: entropy,
@@ -650,8 +782,17 @@ pub fn mixture_state(state: &binodal_eos::MixtureState, choice: &MixtureChoice) 
     };
     let two_phase = (!f.single_phase).then(|| {
         let comps = choice.mixture.components();
-        let mass = |x: &[f64]| -> f64 { comps.iter().zip(x).map(|(c, xi)| xi * c.molar_mass_kg_per_mol()).sum() };
-        let (ml, mv) = (mass(&f.liquid_mole_fractions), mass(&f.vapor_mole_fractions));
+        let mass = |x: &[f64]| -> f64 {
+            comps
+                .iter()
+                .zip(x)
+                .map(|(c, xi)| xi * c.molar_mass_kg_per_mol())
+                .sum()
+        };
+        let (ml, mv) = (
+            mass(&f.liquid_mole_fractions),
+            mass(&f.vapor_mole_fractions),
+        );
         let b = f.vapor_fraction;
         pb::TwoPhaseSplit {
             vapor_fraction_mol: b,

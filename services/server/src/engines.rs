@@ -8,6 +8,8 @@ use std::sync::Arc;
 use binodal_eos::{Mixture, Model, PureEos, ReferenceState};
 use binodal_fluids::{Catalogue, FluidRecord, SafetyClass};
 
+use binodal_proto::v1 as pb;
+
 use crate::status::ServiceError;
 
 /// One fluid's engines, by model and reference state.
@@ -17,6 +19,8 @@ struct FluidEngines {
     /// state, or without (when the fluid lacks ideal-gas data or the reference state does
     /// not apply), or the engine's construction error.
     by_model: HashMap<(Model, ReferenceState), Result<PureEos, binodal_eos::Error>>,
+    /// The basis every answer of each prepared engine carries, built once.
+    bases: HashMap<(Model, ReferenceState), pb::ResultBasis>,
 }
 
 /// The catalogue and its prepared engines.
@@ -26,6 +30,10 @@ pub struct Engines {
     fluids: HashMap<String, FluidEngines>,
     /// Every catalogue blend under every model and reference state.
     blends: HashMap<(String, Model, ReferenceState), Result<Arc<Mixture>, binodal_eos::Error>>,
+    /// Every name of every catalogue blend (id, display name, ASHRAE number, aliases),
+    /// normalized, to its position in the catalogue's blend list: a request resolves a blend
+    /// name with one normalization and one hash look-up.
+    blend_names: HashMap<String, usize>,
     /// The equation of state used when a request leaves it unspecified.
     pub default_model: Model,
     /// The reference state used when a request leaves it unspecified.
@@ -41,6 +49,8 @@ pub struct Chosen<'a> {
     pub eos: &'a PureEos,
     /// The reference state of its absolute h and s, if it has them.
     pub reference: Option<ReferenceState>,
+    /// What every answer from this engine says about how it was computed (prepared once).
+    pub basis: &'a pb::ResultBasis,
 }
 
 /// A mixture chosen for a request.
@@ -76,26 +86,27 @@ impl Engines {
         default_model: Model,
         default_reference: ReferenceState,
     ) -> Engines {
-        let mut fluids = HashMap::new();
-        for record in catalogue.fluids() {
-            let mut by_model = HashMap::new();
-            for model in Model::ALL {
-                for reference in REFERENCES {
-                    let eos = record.eos(model).map(|plain| {
-                        match plain.clone().with_reference(reference) {
-                            Ok(with_reference) => with_reference,
-                            Err(_) => plain,
-                        }
-                    });
-                    by_model.insert((model, reference), eos);
-                }
-            }
-            fluids.insert(record.id.clone(), FluidEngines { by_model });
-        }
+        // Every fluid and model with a saturation curve, built in parallel (see `curves`).
+        let (pure, _curves) = crate::curves::prepare_pure(catalogue.fluids(), &REFERENCES);
+        let fluids: HashMap<String, FluidEngines> = pure
+            .into_iter()
+            .zip(catalogue.fluids())
+            .map(|((id, by_model), record)| {
+                let bases = by_model
+                    .iter()
+                    .filter_map(|(&key, eos)| {
+                        let eos = eos.as_ref().ok()?;
+                        Some((key, crate::convert::prepare_basis(record, eos)))
+                    })
+                    .collect();
+                (id, FluidEngines { by_model, bases })
+            })
+            .collect();
         let mut engines = Engines {
             catalogue,
             fluids,
             blends: HashMap::new(),
+            blend_names: HashMap::new(),
             default_model,
             default_reference,
         };
@@ -112,6 +123,25 @@ impl Engines {
             }
         }
         engines.blends = blends;
+        let mut blend_names = HashMap::new();
+        for (i, blend) in engines.catalogue.blends().iter().enumerate() {
+            let names = [
+                Some(&blend.id),
+                Some(&blend.name),
+                blend.ashrae_number.as_ref(),
+            ]
+            .into_iter()
+            .flatten()
+            .chain(blend.aliases.iter());
+            for name in names {
+                let key = binodal_fluids::normalize(name);
+                if !key.is_empty() {
+                    // The first blend with a name wins, as in `Catalogue::blend`.
+                    blend_names.entry(key).or_insert(i);
+                }
+            }
+        }
+        engines.blend_names = blend_names;
         engines
     }
 
@@ -127,7 +157,10 @@ impl Engines {
     ) -> Result<(Mixture, Option<ReferenceState>), binodal_eos::Error> {
         let mut components = Vec::with_capacity(parts.len());
         for (id, _) in parts {
-            let record = self.catalogue.get(id).expect("mixture components are resolved first");
+            let record = self
+                .catalogue
+                .get(id)
+                .expect("mixture components are resolved first");
             components.push(record.eos(model)?);
         }
         let fractions: Vec<f64> = parts.iter().map(|p| p.1).collect();
@@ -156,7 +189,12 @@ impl Engines {
         model: Option<Model>,
         reference: Option<ReferenceState>,
     ) -> Result<Option<MixtureChoice>, ServiceError> {
-        let Some(blend) = self.catalogue.blend(name) else {
+        let key = binodal_fluids::normalize(name);
+        let Some(blend) = self
+            .blend_names
+            .get(&key)
+            .map(|&i| &self.catalogue.blends()[i])
+        else {
             return Ok(None);
         };
         let model = model.unwrap_or(self.default_model);
@@ -191,9 +229,15 @@ impl Engines {
         let mut resolved = Vec::with_capacity(parts.len());
         for (i, (name, fraction)) in parts.iter().enumerate() {
             let record = self.catalogue.get(name).map_err(|e| {
-                ServiceError::field(format!("fluid.mixture.components[{i}].fluid"), e.to_string())
+                ServiceError::field(
+                    format!("fluid.mixture.components[{i}].fluid"),
+                    e.to_string(),
+                )
             })?;
-            if resolved.iter().any(|(id, _): &(String, f64)| *id == record.id) {
+            if resolved
+                .iter()
+                .any(|(id, _): &(String, f64)| *id == record.id)
+            {
                 return Err(ServiceError::field(
                     format!("fluid.mixture.components[{i}].fluid"),
                     format!("{} appears twice; list each component once", record.name),
@@ -203,7 +247,12 @@ impl Engines {
         }
         let model = model.unwrap_or(self.default_model);
         let (mixture, used) = self
-            .build_mixture(&resolved, mass_basis, model, Some(reference.unwrap_or(self.default_reference)))
+            .build_mixture(
+                &resolved,
+                mass_basis,
+                model,
+                Some(reference.unwrap_or(self.default_reference)),
+            )
             .map_err(ServiceError::Engine)?;
         let components = self.component_records(&resolved);
         let caution = components
@@ -213,7 +262,11 @@ impl Engines {
             .join(" ");
         Ok(MixtureChoice {
             id: "mixture".into(),
-            name: components.iter().map(|(f, _)| f.name.as_str()).collect::<Vec<_>>().join("/"),
+            name: components
+                .iter()
+                .map(|(f, _)| f.name.as_str())
+                .collect::<Vec<_>>()
+                .join("/"),
             reference: used,
             components,
             caution,
@@ -273,10 +326,15 @@ impl Engines {
             .expect("every model and reference is prepared")
             .as_ref()
             .map_err(|e| ServiceError::Engine(e.clone()))?;
+        let basis = engines
+            .bases
+            .get(&(model, reference))
+            .expect("every prepared engine has its basis");
         Ok(Chosen {
             fluid,
             eos,
             reference: eos.reference_state(),
+            basis,
         })
     }
 }

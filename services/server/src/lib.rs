@@ -4,7 +4,10 @@
 //! (`grpc.health.v1.Health`) and, unless disabled, server reflection (`grpc.reflection.v1`), on a
 //! listener the caller has bound. It returns once the shutdown future has completed and every
 //! in-flight call has finished. [`settings`] reads and validates the configuration;
-//! [`telemetry`] sets up logging and the per-request span.
+//! [`telemetry`] sets up logging and the per-request span; [`security`] holds TLS and the
+//! bearer-token check; [`metrics`] the Prometheus endpoint and request ids. Every call passes the
+//! layers of `serving.rs`: observation, authentication, then admission (concurrency limit, load
+//! shedding, request timeout).
 //!
 //! ```no_run
 //! use binodal_server::settings::Settings;
@@ -27,7 +30,9 @@
 #![deny(missing_docs)]
 
 pub mod alarms;
+mod batch;
 mod convert;
+mod curves;
 mod engines;
 mod limits;
 pub mod metrics;
@@ -50,7 +55,7 @@ use tonic_health::ServingStatus;
 use tonic_health::server::HealthReporter;
 
 use crate::engines::Engines;
-use crate::service::PhaseApi;
+pub use crate::service::PhaseApi;
 use crate::settings::{EquationOfStateChoice, ReferenceStateChoice, Settings};
 
 /// The gRPC name of the phase service, as reported by health checks and reflection.
@@ -83,7 +88,7 @@ pub async fn run(
     health
         .set_serving::<AlarmServiceServer<alarms::AlarmApi>>()
         .await;
-    let alarm_service = AlarmServiceServer::new(alarm_api)
+    let alarm_service = AlarmServiceServer::new(metrics::MeteredAlarms(alarm_api))
         .max_decoding_message_size(limits.max_message_size_bytes)
         .max_encoding_message_size(limits.max_message_size_bytes);
     let api = PhaseApi::new(engines, limits.max_batch_length);
@@ -116,7 +121,8 @@ pub async fn run(
         default_reference_state = settings.default_reference_state.name(),
         "binodal server listening",
     );
-    if !address.ip().is_loopback() && !(settings.tls.enabled() && settings.auth.required()) {
+    let protected = settings.tls.enabled() && settings.auth.required();
+    if !address.ip().is_loopback() && !protected {
         tracing::warn!(
             %address,
             "listening beyond loopback without both TLS and a token: any host that reaches \
@@ -145,6 +151,15 @@ pub async fn run(
     drop(metrics_endpoint);
     tracing::info!("binodal server stopped");
     Ok(())
+}
+
+/// The phase service's handlers over engines prepared from `settings` (catalogue, curves,
+/// defaults), without a network listener: the same handlers [`run`] serves, for in-process use
+/// such as the batch benchmark (`cargo bench -p binodal-server`). Call them through the
+/// `binodal_proto::v1::phase_service_server::PhaseService` trait.
+pub fn phase_handlers(settings: &Settings) -> anyhow::Result<PhaseApi> {
+    let engines = Arc::new(prepare_engines(settings)?);
+    Ok(PhaseApi::new(engines, settings.limits.max_batch_length))
 }
 
 /// Loads the catalogue (with the user fluid file, if set) and prepares every engine.
@@ -185,7 +200,10 @@ fn prepare_engines(settings: &Settings) -> anyhow::Result<Engines> {
 /// new calls; the server then stops accepting connections and lets in-flight calls finish.
 async fn drain_on(shutdown: impl Future<Output = ()>, health: HealthReporter) {
     shutdown.await;
-    tracing::info!("shutdown requested: reporting NOT_SERVING and finishing in-flight calls");
+    tracing::info!(
+        calls_in_flight = metrics::active_calls(),
+        "shutdown requested: reporting NOT_SERVING and finishing in-flight calls"
+    );
     health
         .set_not_serving::<PhaseServiceServer<PhaseApi>>()
         .await;

@@ -137,3 +137,81 @@ where
         })
     }
 }
+
+/// Longest status message sent, in characters; longer ones are cut. Error messages can quote
+/// what a caller sent (an unknown fluid name, say), and a status travels in HTTP/2 headers, which
+/// clients cap (16 KiB by default in the common Rust and Go clients): an unbounded message would
+/// break the connection instead of reporting the error.
+const MAX_STATUS_MESSAGE_CHARS: usize = 512;
+/// A `grpc-message` header longer than this (percent-encoded) is shortened.
+const MAX_STATUS_MESSAGE_HEADER_BYTES: usize = 2048;
+/// A `grpc-status-details-bin` header longer than this is dropped, and the message says so.
+const MAX_STATUS_DETAILS_HEADER_BYTES: usize = 4096;
+
+/// Shortens the status in `headers` (an answer's headers or trailers) to sizes every client
+/// accepts. Statuses of ordinary size are left exactly as they are.
+pub(crate) fn bound_status(headers: &mut http::HeaderMap) {
+    let long_message = headers
+        .get("grpc-message")
+        .is_some_and(|value| value.len() > MAX_STATUS_MESSAGE_HEADER_BYTES);
+    let large_details = headers
+        .get("grpc-status-details-bin")
+        .is_some_and(|value| value.len() > MAX_STATUS_DETAILS_HEADER_BYTES);
+    if !long_message && !large_details {
+        return;
+    }
+    let Some(status) = Status::from_header_map(headers) else {
+        return;
+    };
+    let mut message: String = status
+        .message()
+        .chars()
+        .take(MAX_STATUS_MESSAGE_CHARS)
+        .collect();
+    let omitted = status
+        .message()
+        .chars()
+        .count()
+        .saturating_sub(MAX_STATUS_MESSAGE_CHARS);
+    if omitted > 0 {
+        message.push_str(&format!("... ({omitted} more characters omitted)"));
+    }
+    if large_details {
+        headers.remove("grpc-status-details-bin");
+        message.push_str(" (error details omitted: too large)");
+    }
+    headers.remove("grpc-message");
+    if Status::new(status.code(), message)
+        .add_header(headers)
+        .is_err()
+    {
+        headers.remove("grpc-message");
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn long_status_messages_are_cut_and_short_ones_kept() {
+        let long_name = "R-".repeat(20_000);
+        let mut headers = http::HeaderMap::new();
+        Status::not_found(format!("no fluid is named {long_name}"))
+            .add_header(&mut headers)
+            .expect("status headers");
+        bound_status(&mut headers);
+        let bounded = Status::from_header_map(&headers).expect("a status");
+        assert_eq!(bounded.code(), tonic::Code::NotFound);
+        assert!(bounded.message().starts_with("no fluid is named R-R-"));
+        assert!(bounded.message().contains("more characters omitted"));
+        assert!(headers["grpc-message"].len() <= MAX_STATUS_MESSAGE_HEADER_BYTES);
+
+        let mut headers = http::HeaderMap::new();
+        let short = Status::invalid_argument("temperature_k: NaN is not a finite number");
+        short.add_header(&mut headers).expect("status headers");
+        let before = headers.clone();
+        bound_status(&mut headers);
+        assert_eq!(headers, before);
+    }
+}

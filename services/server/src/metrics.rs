@@ -13,9 +13,9 @@
 //! | `binodal_request_duration_seconds` | histogram | `method`, `code` | time from request to the end of the answer |
 //! | `binodal_active_streams` | gauge | | gRPC calls (HTTP/2 streams) open now, streams included |
 //! | `binodal_requests_shed_total` | counter | | calls refused because every slot was taken |
-//! | `binodal_solver_failures_total` | counter | | solves that did not converge (single calls and batch points) |
+//! | `binodal_solver_failures_total` | counter | | solves that did not converge: INTERNAL answers of the phase service and batch points with NOT_CONVERGED |
 //! | `binodal_computations_total` | counter | `path` | answers by how they were computed: `full_solve` or `precomputed_curve` (saturation-curve hits) |
-//! | `binodal_alarm_events_total` | counter | `kind`, `priority` | alarm events sent to watchers |
+//! | `binodal_alarm_events_total` | counter | `kind`, `priority` | alarm events sent (watch streams and evaluations) |
 //! | `binodal_process_resident_memory_bytes` | gauge | | resident memory, read from `/proc` at each scrape |
 //! | `binodal_build_info` | gauge | `version` | always 1 |
 //!
@@ -54,6 +54,7 @@ use tonic::Code;
 use tonic::body::Body;
 
 use binodal_proto::v1 as pb;
+use binodal_proto::v1::alarm_service_server::AlarmService;
 use binodal_proto::v1::phase_service_server::PhaseService;
 
 use crate::settings::SettingsError;
@@ -410,6 +411,84 @@ impl<T: PhaseService> PhaseService for Metered<T> {
     }
 }
 
+/// The `kind` label of an alarm event kind (`binodal.v1.AlarmEventKind`).
+fn alarm_kind_label(kind: i32) -> &'static str {
+    match pb::AlarmEventKind::try_from(kind) {
+        Ok(pb::AlarmEventKind::Raised) => "raised",
+        Ok(pb::AlarmEventKind::Cleared) => "cleared",
+        Ok(pb::AlarmEventKind::Quality) => "quality",
+        Ok(pb::AlarmEventKind::TagStale) => "tag_stale",
+        Ok(pb::AlarmEventKind::TagResumed) => "tag_resumed",
+        Ok(pb::AlarmEventKind::RuleUndefined) => "rule_undefined",
+        Ok(pb::AlarmEventKind::Notice) => "notice",
+        _ => "unspecified",
+    }
+}
+
+/// The `priority` label of an alarm priority (`binodal.v1.AlarmPriority`).
+fn alarm_priority_label(priority: i32) -> &'static str {
+    match pb::AlarmPriority::try_from(priority) {
+        Ok(pb::AlarmPriority::Low) => "low",
+        Ok(pb::AlarmPriority::Medium) => "medium",
+        Ok(pb::AlarmPriority::High) => "high",
+        _ => "none",
+    }
+}
+
+/// Counts the alarm events of one answer: those of the answer as a whole and those of each
+/// reading's outcome.
+fn count_alarm_events(events: &[pb::AlarmEvent], outcomes: &[pb::ReadingOutcome]) {
+    let per_reading = outcomes.iter().flat_map(|outcome| &outcome.events);
+    for event in events.iter().chain(per_reading) {
+        record_alarm_event(
+            alarm_kind_label(event.kind),
+            alarm_priority_label(event.priority),
+        );
+    }
+}
+
+/// The alarm service with the events it sends counted. Delegates every call unchanged.
+#[derive(Debug, Clone)]
+pub(crate) struct MeteredAlarms<T>(pub(crate) T);
+
+/// The answer stream of a watched alarm service.
+type AlarmStream =
+    Pin<Box<dyn tokio_stream::Stream<Item = Result<pb::WatchResponse, tonic::Status>> + Send>>;
+
+#[tonic::async_trait]
+impl<T: AlarmService> AlarmService for MeteredAlarms<T> {
+    type WatchReadingsStream = AlarmStream;
+
+    async fn watch_readings(
+        &self,
+        request: tonic::Request<tonic::Streaming<pb::WatchRequest>>,
+    ) -> Result<tonic::Response<AlarmStream>, tonic::Status> {
+        use tokio_stream::StreamExt as _;
+        let answer = self.0.watch_readings(request).await?;
+        Ok(answer.map(|stream| {
+            let counted = stream.map(|item| {
+                if let Ok(response) = &item {
+                    count_alarm_events(&response.events, &response.outcomes);
+                }
+                item
+            });
+            Box::pin(counted) as AlarmStream
+        }))
+    }
+
+    async fn evaluate_readings(
+        &self,
+        request: tonic::Request<pb::EvaluateReadingsRequest>,
+    ) -> Result<tonic::Response<pb::EvaluateReadingsResponse>, tonic::Status> {
+        let answer = self.0.evaluate_readings(request).await;
+        if let Ok(response) = &answer {
+            let response = response.get_ref();
+            count_alarm_events(&response.events, &response.outcomes);
+        }
+        answer
+    }
+}
+
 /// The gRPC paths of every method the server can offer: the label values of `method`.
 static KNOWN_METHODS: LazyLock<HashSet<String>> = LazyLock::new(|| {
     let mut methods = HashSet::new();
@@ -496,6 +575,14 @@ fn request_id(headers: &http::HeaderMap) -> String {
     }
 }
 
+/// Calls open now, as the `binodal_active_streams` gauge shows them.
+static ACTIVE_CALLS: AtomicU64 = AtomicU64::new(0);
+
+/// gRPC calls open in this process now (streams included), for log lines.
+pub fn active_calls() -> u64 {
+    ACTIVE_CALLS.load(Ordering::Relaxed)
+}
+
 /// One call being observed, from request to the end of its answer.
 #[derive(Debug)]
 struct Call {
@@ -507,6 +594,7 @@ struct Call {
 impl Call {
     fn begin(method: &'static str, request_id: String) -> Call {
         metrics::gauge!("binodal_active_streams").increment(1.0);
+        ACTIVE_CALLS.fetch_add(1, Ordering::Relaxed);
         Call {
             method,
             request_id,
@@ -519,6 +607,7 @@ impl Call {
         let elapsed = self.started.elapsed();
         let code_label = code_name(code);
         metrics::gauge!("binodal_active_streams").decrement(1.0);
+        ACTIVE_CALLS.fetch_sub(1, Ordering::Relaxed);
         metrics::counter!("binodal_requests_total", "method" => self.method, "code" => code_label)
             .increment(1);
         metrics::histogram!(
@@ -531,18 +620,36 @@ impl Call {
         let (request_id, method) = (self.request_id.as_str(), self.method);
         match code {
             Code::Internal | Code::Unknown | Code::DataLoss => tracing::error!(
-                request_id, method, code = code_label, elapsed_ms, message, "call failed"
+                request_id,
+                method,
+                code = code_label,
+                elapsed_ms,
+                detail = message,
+                "call failed"
             ),
             Code::Unavailable | Code::ResourceExhausted | Code::DeadlineExceeded => {
                 tracing::warn!(
-                    request_id, method, code = code_label, elapsed_ms, message, "call not served"
+                    request_id,
+                    method,
+                    code = code_label,
+                    elapsed_ms,
+                    detail = message,
+                    "call not served"
                 )
             }
             Code::Unauthenticated | Code::PermissionDenied => tracing::info!(
-                request_id, method, code = code_label, message, "call refused"
+                request_id,
+                method,
+                code = code_label,
+                detail = message,
+                "call refused"
             ),
             _ => tracing::debug!(
-                request_id, method, code = code_label, elapsed_ms, "call finished"
+                request_id,
+                method,
+                code = code_label,
+                elapsed_ms,
+                "call finished"
             ),
         }
     }
@@ -588,7 +695,12 @@ impl http_body::Body for ObservedBody {
         mut self: Pin<&mut Self>,
         cx: &mut Context<'_>,
     ) -> Poll<Option<Result<Frame<Bytes>, Self::Error>>> {
-        let polled = Pin::new(&mut self.inner).poll_frame(cx);
+        let mut polled = Pin::new(&mut self.inner).poll_frame(cx);
+        if let Poll::Ready(Some(Ok(frame))) = &mut polled
+            && let Some(trailers) = frame.trailers_mut()
+        {
+            crate::limits::bound_status(trailers);
+        }
         match &polled {
             Poll::Ready(Some(Ok(frame))) => {
                 if let Some((code, message)) = frame.trailers_ref().and_then(status_in)
@@ -621,7 +733,8 @@ impl http_body::Body for ObservedBody {
     }
 }
 
-/// Request ids, metrics and failure logs for every call, as the outermost layer.
+/// Request ids, metrics and failure logs for every call, as the outermost layer. It also keeps
+/// every status it passes to sizes clients accept ([`crate::limits::bound_status`]).
 #[derive(Debug, Clone, Default)]
 pub(crate) struct ObserveLayer;
 
@@ -661,7 +774,9 @@ where
         let id = request_id(request.headers());
         let header = http::HeaderValue::from_str(&id).ok();
         if let Some(value) = &header {
-            request.headers_mut().insert(REQUEST_ID_HEADER, value.clone());
+            request
+                .headers_mut()
+                .insert(REQUEST_ID_HEADER, value.clone());
         }
         let mut pending = Pending(Some(Call::begin(method, id)));
         let answer = self.inner.call(request);
@@ -674,6 +789,7 @@ where
             if let Some(value) = header {
                 response.headers_mut().insert(REQUEST_ID_HEADER, value);
             }
+            crate::limits::bound_status(response.headers_mut());
             if let Some((code, message)) = status_in(response.headers()) {
                 // A trailers-only answer: the status is already known.
                 if let Some(call) = pending.take() {
@@ -726,7 +842,10 @@ mod tests {
             method_label("/grpc.health.v1.Health/Check"),
             "/grpc.health.v1.Health/Check"
         );
-        assert_eq!(method_label("/binodal.v1.PhaseService/DropTables"), "unknown");
+        assert_eq!(
+            method_label("/binodal.v1.PhaseService/DropTables"),
+            "unknown"
+        );
         assert_eq!(method_label("/"), "unknown");
     }
 

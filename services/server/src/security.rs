@@ -417,7 +417,10 @@ mod tests {
 
     #[test]
     fn only_an_accepted_bearer_token_passes() {
-        let accepted = [digest(TOKEN.as_bytes()), digest(b"another-token-0123456789abcdefgh")];
+        let accepted = [
+            digest(TOKEN.as_bytes()),
+            digest(b"another-token-0123456789abcdefgh"),
+        ];
         assert!(refusal(&accepted, &headers(Some(&format!("Bearer {TOKEN}")))).is_none());
         assert!(refusal(&accepted, &headers(Some(&format!("bearer {TOKEN}")))).is_none());
         for refused in [
@@ -430,7 +433,10 @@ mod tests {
         ] {
             let status = refusal(&accepted, &headers(refused)).expect("refused");
             assert_eq!(status.code(), tonic::Code::Unauthenticated, "{refused:?}");
-            assert!(!status.message().contains(TOKEN), "{status:?} echoes the token");
+            assert!(
+                !status.message().contains(TOKEN),
+                "{status:?} echoes the token"
+            );
         }
     }
 
@@ -510,14 +516,21 @@ mod tests {
             private_key_file: key.to_owned(),
             client_ca_file: ca.to_owned(),
         };
-        assert!(!TlsSettings::validate(raw("", "", "")).expect("plain").enabled());
+        assert!(
+            !TlsSettings::validate(raw("", "", ""))
+                .expect("plain")
+                .enabled()
+        );
         let mutual = TlsSettings::validate(raw(&pem, &pem, &pem)).expect("mutual TLS");
         assert!(mutual.enabled() && mutual.mutual());
         for (bad, names) in [
             (raw(&pem, "", ""), "tls.private_key_file"),
             (raw("", &pem, ""), "tls.certificate_file"),
             (raw("", "", &pem), "tls.certificate_file"),
-            (raw("/nonexistent/server.pem", &pem, ""), "tls.certificate_file"),
+            (
+                raw("/nonexistent/server.pem", &pem, ""),
+                "tls.certificate_file",
+            ),
         ] {
             let message = TlsSettings::validate(bad).expect_err("refused").to_string();
             assert!(message.contains(names), "{message} lacks {names}");

@@ -124,9 +124,13 @@ fn target<'a>(
             }
             Ok(Target::Pure(engines.choose(name, model, reference)?))
         }
-        FluidRequest::Mixture { parts, mass_basis, warnings } => Ok(Target::Mixture(
-            engines.choose_custom(&parts, mass_basis, model, reference, warnings)?,
-        )),
+        FluidRequest::Mixture {
+            parts,
+            mass_basis,
+            warnings,
+        } => Ok(Target::Mixture(engines.choose_custom(
+            &parts, mass_basis, model, reference, warnings,
+        )?)),
     }
 }
 
@@ -135,9 +139,15 @@ fn mixture_batch(choice: &MixtureChoice, ts: &[f64], ps: &[f64]) -> pb::GetState
     let n = ts.len();
     let nan = f64::NAN;
     let m = choice.mixture.molar_mass_kg_per_mol();
-    let mut out = pb::GetStateBatchResponse { basis: Some(convert::mixture_basis(choice)), ..Default::default() };
+    let mut out = pb::GetStateBatchResponse {
+        basis: Some(convert::mixture_basis(choice)),
+        ..Default::default()
+    };
     for (i, (&t, &p)) in ts.iter().zip(ps).enumerate() {
-        let point = choice.mixture.state(t, p).map(|s| convert::mixture_state(&s, choice));
+        let point = choice
+            .mixture
+            .state(t, p)
+            .map(|s| convert::mixture_state(&s, choice));
         let (r, ok) = match point {
             Ok(r) => (r, true),
             Err(e) => {
@@ -147,7 +157,11 @@ fn mixture_batch(choice: &MixtureChoice, ts: &[f64], ps: &[f64]) -> pb::GetState
                     tonic::Code::InvalidArgument => pb::PointErrorCode::InvalidInput,
                     _ => pb::PointErrorCode::Internal,
                 };
-                out.errors.push(pb::PointError { index: i as u32, code: code as i32, message: e.to_string() });
+                out.errors.push(pb::PointError {
+                    index: i as u32,
+                    code: code as i32,
+                    message: e.to_string(),
+                });
                 (pb::GetStateResponse::default(), false)
             }
         };
@@ -156,7 +170,8 @@ fn mixture_batch(choice: &MixtureChoice, ts: &[f64], ps: &[f64]) -> pb::GetState
         let value = |x: f64| if ok { x } else { nan };
         out.phases.push(r.phase);
         out.densities_kg_per_m3.push(value(props.density_kg_per_m3));
-        out.compressibility_factors.push(value(props.compressibility_factor));
+        out.compressibility_factors
+            .push(value(props.compressibility_factor));
         let h = props.enthalpy_j_per_mol.unwrap_or(nan);
         let s = props.entropy_j_per_mol_k.unwrap_or(nan);
         out.enthalpies_j_per_mol.push(h);
@@ -165,12 +180,19 @@ fn mixture_batch(choice: &MixtureChoice, ts: &[f64], ps: &[f64]) -> pb::GetState
         out.entropies_j_per_kg_k.push(s / m);
         out.subcooling_k.push(margins.subcooling_k.unwrap_or(nan));
         out.superheat_k.push(margins.superheat_k.unwrap_or(nan));
-        out.pressure_above_bubble_pa.push(margins.pressure_above_bubble_pa.unwrap_or(nan));
-        out.pressure_below_dew_pa.push(margins.pressure_below_dew_pa.unwrap_or(nan));
-        out.vapor_fractions_mol.push(r.two_phase.map_or(nan, |tp| tp.vapor_fraction_mol));
+        out.pressure_above_bubble_pa
+            .push(margins.pressure_above_bubble_pa.unwrap_or(nan));
+        out.pressure_below_dew_pa
+            .push(margins.pressure_below_dew_pa.unwrap_or(nan));
+        out.vapor_fractions_mol
+            .push(r.two_phase.map_or(nan, |tp| tp.vapor_fraction_mol));
         out.estimated.push(r.estimated);
         out.near_critical.push(r.near_critical);
-        out.paths.push(if ok { pb::ComputationPath::FullSolve as i32 } else { pb::ComputationPath::Unspecified as i32 });
+        out.paths.push(if ok {
+            pb::ComputationPath::FullSolve as i32
+        } else {
+            pb::ComputationPath::Unspecified as i32
+        });
     }
     debug_assert_eq!(out.phases.len(), n);
     out
@@ -199,7 +221,12 @@ fn mixture_saturation(
             let glide = dew.temperature_k - bubble.temperature_k;
             (bubble, dew, glide)
         }
-        None => return Err(ServiceError::field("condition", "missing: give temperature_k or pressure_pa")),
+        None => {
+            return Err(ServiceError::field(
+                "condition",
+                "missing: give temperature_k or pressure_pa",
+            ));
+        }
     };
     Ok(convert::mixture_saturation(&bubble, &dew, glide, choice))
 }
@@ -281,14 +308,20 @@ impl PhaseService for PhaseApi {
         let catalogue = self.engines.catalogue();
         if let Some(blend) = catalogue.blend(name) {
             let model = self.engines.default_model;
-            let choice = self.engines.choose_blend(name, Some(model), None)?.expect("a blend");
+            let choice = self
+                .engines
+                .choose_blend(name, Some(model), None)?
+                .expect("a blend");
             return Ok(Response::new(pb::DescribeFluidResponse {
                 fluid: Some(convert::blend_description(blend, catalogue, &choice)),
             }));
         }
         let record = catalogue.get(name).map_err(ServiceError::from)?;
+        // The default model's engine, for the estimated solid boundaries (none if it failed to
+        // build: the description then goes without them).
+        let engine = self.engines.choose(&record.id, None, None).ok();
         Ok(Response::new(pb::DescribeFluidResponse {
-            fluid: Some(convert::description(record)),
+            fluid: Some(convert::description(record, engine.map(|c| c.eos))),
         }))
     }
 
@@ -304,7 +337,10 @@ impl PhaseService for PhaseApi {
         let chosen = match self.target(request.fluid.as_ref(), model, reference)? {
             Target::Pure(chosen) => chosen,
             Target::Mixture(choice) => {
-                return Ok(Response::new(mixture_saturation(&choice, request.condition)?));
+                return Ok(Response::new(mixture_saturation(
+                    &choice,
+                    request.condition,
+                )?));
             }
         };
         let sat = match request.condition {

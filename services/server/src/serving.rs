@@ -1,8 +1,8 @@
 //! The transport around the services: TLS, HTTP/2 limits, and the layers every call passes
 //! through, outermost first:
 //!
-//! 1. [`crate::metrics::ObserveLayer`]: request id, metrics, failure logs (sees every call,
-//!    refused ones included);
+//! 1. [`crate::metrics::ObserveLayer`]: request id, metrics, failure logs, bounded status
+//!    messages (sees every call, refused ones included);
 //! 2. [`crate::security::AuthLayer`]: the bearer-token check (health exempt);
 //! 3. [`crate::limits::AdmissionLayer`]: the concurrency limit, load shedding and the request
 //!    timeout (health exempt).

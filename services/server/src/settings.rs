@@ -322,7 +322,7 @@ impl Default for Settings {
             },
             limits: Limits {
                 max_message_size_bytes: 4 * 1024 * 1024,
-                max_batch_length: 100_000,
+                max_batch_length: 40_000,
                 request_timeout: Duration::from_secs(10),
                 max_concurrent_requests: 256,
                 load_shedding: true,
@@ -641,7 +641,7 @@ mod tests {
             EquationOfStateChoice::PengRobinson1978
         );
         assert_eq!(settings.limits.max_message_size_bytes, 4_194_304);
-        assert_eq!(settings.limits.max_batch_length, 100_000);
+        assert_eq!(settings.limits.max_batch_length, 40_000);
         assert_eq!(settings.limits.request_timeout, Duration::from_secs(10));
         assert!(settings.reflection);
         assert_eq!(settings.log.format, LogFormat::Text);

@@ -7,9 +7,14 @@
 //! P-T diagram marks the triple point and the critical point; the P-h diagram draws the two-phase
 //! dome from the saturated liquid and vapor enthalpies. Pressure axes are logarithmic.
 //!
-//! Not drawn: the estimated solid boundaries (melting line and sublimation curve). Estimating
-//! them from the triple point needs the heat of fusion and the volume change on melting, which
-//! the API does not report yet.
+//! The P-T diagram also draws the estimated solid boundaries that DescribeFluid reports: the
+//! melting line and the sublimation curve, which the server estimates from the triple point and
+//! the heat of fusion with Clausius-Clapeyron relations under its default equation of state.
+//! They are dashed, labelled as estimates in the legend and the footnote, and clipped to the
+//! plotted range; the pressure axis reaches down at most [`SUBLIMATION_DECADES`] decades below
+//! the saturation curve's lowest pressure to show the sublimation curve. Blends, and fluids whose
+//! catalogue entry lacks the triple point or the heat of fusion, have none: a note says so and
+//! `solid_boundaries_drawn` is false.
 //!
 //! Text is rendered with an embedded DejaVu Sans font (the `dejavu` crate) through plotters'
 //! pure-Rust `ab_glyph` support, so no system font library is needed for PNG output.
@@ -20,15 +25,16 @@ use std::sync::Once;
 use anyhow::{Context as _, anyhow, bail};
 use binodal_proto::v1::{
     EquationOfState, FluidDescription, GetSaturationRequest, GetStateRequest, Phase,
-    get_saturation_request,
+    PressureTemperaturePoint, get_saturation_request,
 };
 use plotters::coord::Shift;
+use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 use plotters::style::FontStyle;
 
 use crate::cli::DiagramKind;
 use crate::client::{Service, ServiceError};
-use crate::commands::{connect, model, progress_bar, selector};
+use crate::commands::{connect, is_blend, model, progress_bar, selector};
 use crate::config::Settings;
 use crate::reading::Mark;
 use crate::report::{Body, Document, Field, Value, caution, model_label};
@@ -41,6 +47,10 @@ const CURVE_SAMPLES: usize = 80;
 const START_REDUCED_TEMPERATURE: f64 = 0.5;
 /// Picture size in pixels.
 const SIZE: (u32, u32) = (1000, 700);
+/// How many decades below the lowest pressure of the saturation curve (and of the triple point
+/// and marked points) the pressure axis may reach to show the estimated sublimation curve. A
+/// drawing choice: enough to show the curve's shape without squeezing the liquid-vapor part.
+const SUBLIMATION_DECADES: i32 = 3;
 
 /// Output file format, from the extension.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -93,6 +103,10 @@ struct Picture {
     blend: bool,
     critical: (f64, f64),
     triple: Option<(f64, f64)>,
+    /// Estimated melting line as (T, P), by rising pressure; empty when not drawn.
+    melting: Vec<(f64, f64)>,
+    /// Estimated sublimation curve as (T, P), by rising temperature; empty when not drawn.
+    sublimation: Vec<(f64, f64)>,
     points: Vec<Point>,
     footnote: String,
 }
@@ -222,10 +236,28 @@ pub async fn run(
         });
     }
 
-    let solid_note = "solid boundaries (melting line, sublimation curve) are not drawn: the \
-                      service does not report the heat of fusion they are estimated from";
+    let (melting, sublimation) = match kind {
+        DiagramKind::Pt => (
+            curve_points(&fluid.estimated_melting_curve),
+            curve_points(&fluid.estimated_sublimation_curve),
+        ),
+        DiagramKind::Ph => (Vec::new(), Vec::new()),
+    };
     if kind == DiagramKind::Pt {
-        notes.push(solid_note.to_string());
+        if melting.is_empty() && sublimation.is_empty() {
+            notes.push(format!(
+                "solid boundaries (melting line, sublimation curve) are not drawn: {}",
+                if is_blend(&fluid) {
+                    "the service estimates them for pure fluids only".to_string()
+                } else {
+                    format!(
+                        "the catalogue lacks the triple point or the heat of fusion of {} that \
+                         they are estimated from",
+                        fluid.display_name
+                    )
+                }
+            ));
+        }
     } else {
         let top = samples.last().map_or(critical.0, |s| s.liquid_t);
         notes.push(format!(
@@ -249,19 +281,29 @@ pub async fn run(
         blend,
         critical,
         triple,
+        melting,
+        sublimation,
         points,
         footnote: format!(
             "Cubic equation of state ({}). Advisory only: defer to local codes and licensed \
-             practice.{}",
+             practice.",
             model_label(used_model),
-            if kind == DiagramKind::Pt {
-                " Solid boundaries not drawn."
-            } else {
-                ""
-            }
         ),
     };
-    draw(&picture, format, out, units)?;
+    let solid_drawn = draw(&picture, format, out, units)?;
+    if solid_drawn {
+        notes.push(
+            "the dashed melting line and sublimation curve are estimates, not measured data: \
+             the server draws them from the triple point and the heat of fusion with \
+             Clausius-Clapeyron relations under its default equation of state"
+                .to_string(),
+        );
+    } else if !(picture.melting.is_empty() && picture.sublimation.is_empty()) {
+        notes.push(
+            "the estimated solid boundaries lie outside the plotted range and are not drawn"
+                .to_string(),
+        );
+    }
 
     let highest_mark = picture
         .points
@@ -316,12 +358,26 @@ pub async fn run(
                 Quantity::Pressure,
                 triple.map(|t| t.1),
             ),
-            Field::flag("solid_boundaries_drawn", "solid boundaries drawn", false),
+            Field::flag(
+                "solid_boundaries_drawn",
+                "solid boundaries drawn",
+                solid_drawn,
+            ),
         ]),
     );
     document.notes = notes;
     document.caution = caution(&fluid, highest_mark, units);
     Ok(document)
+}
+
+/// The usable points of an estimated solid boundary as (T, P): finite, positive temperature and
+/// pressure (the pressure axis is logarithmic).
+fn curve_points(curve: &[PressureTemperaturePoint]) -> Vec<(f64, f64)> {
+    curve
+        .iter()
+        .map(|c| (c.temperature_k, c.pressure_pa))
+        .filter(|&(t, p)| t.is_finite() && t > 0.0 && p.is_finite() && p > 0.0)
+        .collect()
 }
 
 /// Samples the saturation curve; returns the points and how many temperatures were refused.
@@ -454,26 +510,29 @@ fn register_font() -> anyhow::Result<()> {
     }
 }
 
-fn draw(picture: &Picture, format: Format, out: &Path, units: UnitSystem) -> anyhow::Result<()> {
+/// Draws the picture to `out`; returns whether any estimated solid boundary was drawn.
+fn draw(picture: &Picture, format: Format, out: &Path, units: UnitSystem) -> anyhow::Result<bool> {
     register_font()?;
     let drawing = |e: String| anyhow!("cannot draw {}: {e}", out.display());
-    match format {
+    let solid_drawn = match format {
         Format::Svg => {
             let root = SVGBackend::new(out, SIZE).into_drawing_area();
-            plot(picture, &root, units).map_err(drawing)?;
+            let solid_drawn = plot(picture, &root, units).map_err(drawing)?;
             root.present()
                 .map_err(|e| drawing(e.to_string()))
                 .with_context(|| format!("cannot write {}", out.display()))?;
+            solid_drawn
         }
         Format::Png => {
             let root = BitMapBackend::new(out, SIZE).into_drawing_area();
-            plot(picture, &root, units).map_err(drawing)?;
+            let solid_drawn = plot(picture, &root, units).map_err(drawing)?;
             root.present()
                 .map_err(|e| drawing(e.to_string()))
                 .with_context(|| format!("cannot write {}", out.display()))?;
+            solid_drawn
         }
-    }
-    Ok(())
+    };
+    Ok(solid_drawn)
 }
 
 /// Converts an SI value to the display unit.
@@ -491,11 +550,103 @@ fn padded(values: impl Iterator<Item = f64>, left: f64, right: f64) -> (f64, f64
     (lo - left * span, hi + right * span)
 }
 
+/// The part `(t0, t1)` of the segment from `a` to `b` (as fractions of its length) inside the
+/// rectangle `x` by `y` (Liang-Barsky clipping); `None` when it misses the rectangle.
+fn clip_segment(a: (f64, f64), b: (f64, f64), x: (f64, f64), y: (f64, f64)) -> Option<(f64, f64)> {
+    let (dx, dy) = (b.0 - a.0, b.1 - a.1);
+    let (mut t0, mut t1) = (0.0_f64, 1.0_f64);
+    for (p, q) in [
+        (-dx, a.0 - x.0),
+        (dx, x.1 - a.0),
+        (-dy, a.1 - y.0),
+        (dy, y.1 - a.1),
+    ] {
+        if p == 0.0 {
+            if q < 0.0 {
+                return None;
+            }
+        } else if p < 0.0 {
+            t0 = t0.max(q / p);
+        } else {
+            t1 = t1.min(q / p);
+        }
+        if t0 > t1 {
+            return None;
+        }
+    }
+    Some((t0, t1))
+}
+
+/// The parts of a polyline (display units, positive y) inside `x` by `y`, each with at least
+/// two points. Where the line crosses an edge, the crossing is interpolated linearly in x and in
+/// `ln y`, as the pressure axis is logarithmic.
+fn clip_log_y(points: &[(f64, f64)], x: (f64, f64), y: (f64, f64)) -> Vec<Vec<(f64, f64)>> {
+    let log_y = (y.0.ln(), y.1.ln());
+    // The point a fraction `t` along the segment from `a` to `b` (in x and ln y), back in y.
+    let at = |a: (f64, f64), b: (f64, f64), t: f64| {
+        (a.0 + t * (b.0 - a.0), (a.1 + t * (b.1 - a.1)).exp())
+    };
+    let finish = |current: &mut Vec<(f64, f64)>, parts: &mut Vec<Vec<(f64, f64)>>| {
+        if current.len() >= 2 {
+            parts.push(std::mem::take(current));
+        } else {
+            current.clear();
+        }
+    };
+    let mut parts = Vec::new();
+    let mut current = Vec::new();
+    for pair in points.windows(2) {
+        let (a, b) = ((pair[0].0, pair[0].1.ln()), (pair[1].0, pair[1].1.ln()));
+        match clip_segment(a, b, x, log_y) {
+            None => finish(&mut current, &mut parts),
+            Some((t0, t1)) => {
+                // Entering the range (or starting): a new part begins at the crossing.
+                if t0 > 0.0 || current.is_empty() {
+                    finish(&mut current, &mut parts);
+                    current.push(at(a, b, t0));
+                }
+                current.push(at(a, b, t1));
+                // Leaving the range: the part ends at the crossing.
+                if t1 < 1.0 {
+                    finish(&mut current, &mut parts);
+                }
+            }
+        }
+    }
+    finish(&mut current, &mut parts);
+    parts
+}
+
+/// Draws one estimated solid boundary, dashed, with its legend entry; returns whether any part
+/// of it lay inside the plotted range.
+fn draw_estimate<DB: DrawingBackend, X, Y>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<X, Y>>,
+    parts: Vec<Vec<(f64, f64)>>,
+    label: &str,
+    style: ShapeStyle,
+) -> Result<bool, DrawingAreaErrorKind<DB::ErrorType>>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    let drawn = !parts.is_empty();
+    for (i, part) in parts.into_iter().enumerate() {
+        let series = chart.draw_series(DashedLineSeries::new(part, 8, 5, style))?;
+        if i == 0 {
+            series.label(label).legend(move |(x, y)| {
+                DashedPathElement::new(vec![(x, y), (x + 20, y)], 5, 3, style)
+            });
+        }
+    }
+    Ok(drawn)
+}
+
+/// Draws the picture; returns whether any estimated solid boundary was drawn.
 fn plot<DB: DrawingBackend>(
     picture: &Picture,
     root: &DrawingArea<DB, Shift>,
     units: UnitSystem,
-) -> Result<(), String> {
+) -> Result<bool, String> {
     use Quantity as Q;
     let err = |e: DrawingAreaErrorKind<DB::ErrorType>| e.to_string();
     root.fill(&WHITE).map_err(err)?;
@@ -522,17 +673,37 @@ fn plot<DB: DrawingBackend>(
         .copied()
         .fold(f64::INFINITY, f64::min)
         .max(1e-6);
+    // Room below for the estimated sublimation curve, at most SUBLIMATION_DECADES decades.
+    let p_lo = match picture.sublimation.iter().map(|s| s.1).reduce(f64::min) {
+        Some(lowest) => p_lo
+            .min(lowest.max(p_lo * 10f64.powi(-SUBLIMATION_DECADES)))
+            .max(1e-6),
+        None => p_lo,
+    };
     let p_hi = pressures.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let y_range = (p(p_lo) / 1.5)..(p(p_hi) * 1.5);
+    let y_bounds = (y_range.start, y_range.end);
+    let mut solid_drawn = false;
     let y_desc = format!("pressure, {} (log scale)", unit_label(Q::Pressure, units));
 
     let curve_style = ShapeStyle::from(&BLUE).stroke_width(2);
     let dew_style = ShapeStyle::from(&RGBColor(0, 140, 70)).stroke_width(2);
     let mark_style = ShapeStyle::from(&RGBColor(230, 120, 0)).filled();
+    let melting_style = ShapeStyle::from(&RGBColor(128, 0, 128)).stroke_width(2);
+    let sublimation_style = ShapeStyle::from(&RGBColor(0, 128, 128)).stroke_width(2);
 
     match picture.kind {
         DiagramKind::Pt => {
             let t = |si: f64| shown(Q::Temperature, si, units);
+            let displayed = |curve: &[(f64, f64)]| -> Vec<(f64, f64)> {
+                curve.iter().map(|&(ts, ps)| (t(ts), p(ps))).collect()
+            };
+            let melting = displayed(&picture.melting);
+            let sublimation = displayed(&picture.sublimation);
+            // The part of the sublimation curve inside the pressure range widens the
+            // temperature range; the melting line is only clipped.
+            let any_t = (f64::NEG_INFINITY, f64::INFINITY);
+            let sublimation_shown = clip_log_y(&sublimation, any_t, y_bounds);
             let (x_lo, x_hi) = padded(
                 picture
                     .samples
@@ -540,10 +711,12 @@ fn plot<DB: DrawingBackend>(
                     .flat_map(|s| [s.liquid_t, s.vapor_t])
                     .chain([picture.critical.0])
                     .chain(picture.points.iter().map(|m| m.t))
-                    .map(t),
+                    .map(t)
+                    .chain(sublimation_shown.iter().flatten().map(|point| point.0)),
                 0.04,
                 0.08,
             );
+            let x_bounds = (x_lo, x_hi);
             let mut chart = ChartBuilder::on(&body)
                 .caption(&picture.title, ("sans-serif", 24))
                 .margin(16)
@@ -586,6 +759,20 @@ fn plot<DB: DrawingBackend>(
                     .label("dew curve")
                     .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], dew_style));
             }
+            solid_drawn |= draw_estimate(
+                &mut chart,
+                clip_log_y(&melting, x_bounds, y_bounds),
+                "estimated melting line",
+                melting_style,
+            )
+            .map_err(err)?;
+            solid_drawn |= draw_estimate(
+                &mut chart,
+                clip_log_y(&sublimation, x_bounds, y_bounds),
+                "estimated sublimation curve",
+                sublimation_style,
+            )
+            .map_err(err)?;
             let critical = (t(picture.critical.0), p(picture.critical.1));
             chart
                 .draw_series(std::iter::once(Circle::new(critical, 6, RED.filled())))
@@ -689,14 +876,21 @@ fn plot<DB: DrawingBackend>(
                 .map_err(err)?;
         }
     }
+    let footnote = match picture.kind {
+        DiagramKind::Pt if solid_drawn => {
+            format!("{} Dashed: estimated solid boundaries.", picture.footnote)
+        }
+        DiagramKind::Pt => format!("{} Solid boundaries not drawn.", picture.footnote),
+        DiagramKind::Ph => picture.footnote.clone(),
+    };
     footer
         .draw(&Text::new(
-            picture.footnote.clone(),
+            footnote,
             (16, 6),
             ("sans-serif", 14).into_font().color(&BLACK),
         ))
         .map_err(err)?;
-    Ok(())
+    Ok(solid_drawn)
 }
 
 /// Draws the operating points: a filled circle and the point as typed.
@@ -740,6 +934,32 @@ mod tests {
         let first = temperatures[1] - temperatures[0];
         let last = temperatures[CURVE_SAMPLES - 1] - temperatures[CURVE_SAMPLES - 2];
         assert!(last < first / 10.0, "first {first}, last {last}");
+    }
+
+    #[test]
+    fn clipping_cuts_at_the_edges_in_log_pressure() {
+        let close = |a: (f64, f64), b: (f64, f64)| {
+            (a.0 - b.0).abs() < 1e-12 && (a.1 - b.1).abs() < 1e-9 * b.1
+        };
+        // From (0, 1) to (2, 100), cut at x = 1: halfway in x, so halfway in ln y, at y = 10
+        // (the geometric mean of 1 and 100).
+        let parts = clip_log_y(&[(0.0, 1.0), (2.0, 100.0)], (0.0, 1.0), (1.0, 1000.0));
+        assert_eq!(parts.len(), 1, "{parts:?}");
+        assert!(close(parts[0][0], (0.0, 1.0)), "{parts:?}");
+        assert!(close(parts[0][1], (1.0, 10.0)), "{parts:?}");
+        // Out through the top and back in: two parts, each ending or starting at y = 1000,
+        // two thirds of the way from 10 to 10 000 in ln y.
+        let parts = clip_log_y(
+            &[(0.0, 10.0), (3.0, 1.0e4), (6.0, 10.0)],
+            (0.0, 6.0),
+            (1.0, 1000.0),
+        );
+        assert_eq!(parts.len(), 2, "{parts:?}");
+        assert!(close(parts[0][1], (2.0, 1000.0)), "{parts:?}");
+        assert!(close(parts[1][0], (4.0, 1000.0)), "{parts:?}");
+        assert!(close(parts[1][1], (6.0, 10.0)), "{parts:?}");
+        // Wholly outside: nothing.
+        assert!(clip_log_y(&[(0.0, 1.0e5), (1.0, 1.0e6)], (0.0, 1.0), (1.0, 1000.0)).is_empty());
     }
 
     #[test]

@@ -42,7 +42,7 @@ pub fn progress_bar(steps: usize, message: String) -> ProgressBar {
 
 /// Connects to the configured server.
 pub async fn connect(settings: &Settings) -> anyhow::Result<Service> {
-    Ok(Service::connect(&settings.server).await?)
+    Ok(Service::connect_with(&settings.server, &settings.security).await?)
 }
 
 /// The selector for a catalogue fluid.

@@ -44,7 +44,10 @@ fn propane_isobutane_is_nearly_ideal() {
     assert!((bubble / 0.39025e6 - 1.0).abs() < 0.03, "bubble {bubble}");
     assert!((dew / 0.29629e6 - 1.0).abs() < 0.03, "dew {dew}");
     // The incipient vapor at the bubble point is richer in the lighter propane.
-    let y = mix.bubble_at_temperature(280.0).unwrap().incipient_mole_fractions;
+    let y = mix
+        .bubble_at_temperature(280.0)
+        .unwrap()
+        .incipient_mole_fractions;
     assert!(y[0] > 0.5 && (y[0] + y[1] - 1.0).abs() < 1e-12);
     // Glide at the bubble pressure: the dew point lies above the bubble point.
     assert!(mix.glide_at_pressure(bubble).unwrap() > 1.0);
@@ -121,7 +124,10 @@ fn outside_the_envelope_is_a_precise_error() {
     // Close below the mixture's critical region either a consistent answer or an error.
     for t in [385.0, 390.0, 395.0, 400.0] {
         match (mix.bubble_at_temperature(t), mix.dew_at_temperature(t)) {
-            (Ok(b), Ok(d)) => assert!(b.pressure_pa >= d.pressure_pa * (1.0 - 1e-9), "{t}: {b:?} {d:?}"),
+            (Ok(b), Ok(d)) => assert!(
+                b.pressure_pa >= d.pressure_pa * (1.0 - 1e-9),
+                "{t}: {b:?} {d:?}"
+            ),
             (b, d) => assert!(b.is_err() || d.is_err()),
         }
     }

@@ -6,7 +6,9 @@ use binodal_fluids::Catalogue;
 
 fn mixture(name: &str, model: Model) -> Mixture {
     let catalogue = Catalogue::builtin();
-    let blend = catalogue.blend(name).unwrap_or_else(|| panic!("{name} is a catalogue blend"));
+    let blend = catalogue
+        .blend(name)
+        .unwrap_or_else(|| panic!("{name} is a catalogue blend"));
     let parts = catalogue.blend_components(blend);
     let eos: Vec<_> = parts.iter().map(|(f, _)| f.eos(model).unwrap()).collect();
     let mass: Vec<f64> = parts.iter().map(|(_, w)| *w).collect();
@@ -24,18 +26,30 @@ fn glide_at_zero_celsius(name: &str) -> f64 {
 #[test]
 fn every_blend_has_bubble_and_dew_points_under_every_model_but_van_der_waals() {
     let catalogue = Catalogue::builtin();
-    let required = ["R-410A", "R-407C", "R-404A", "R-507A", "R-454B", "R-452B", "R-513A", "R-448A", "R-449A"];
+    let required = [
+        "R-410A", "R-407C", "R-404A", "R-507A", "R-454B", "R-452B", "R-513A", "R-448A", "R-449A",
+    ];
     for name in required {
-        let blend = catalogue.blend(name).unwrap_or_else(|| panic!("{name} missing"));
+        let blend = catalogue
+            .blend(name)
+            .unwrap_or_else(|| panic!("{name} missing"));
         assert!(blend.safety_class.is_some(), "{name} has a safety class");
         assert!(!blend.citation.is_empty() && !blend.caution.is_empty());
     }
     for blend in catalogue.blends() {
-        for model in [Model::SoaveRedlichKwong, Model::PengRobinson1976, Model::PengRobinson1978] {
+        for model in [
+            Model::SoaveRedlichKwong,
+            Model::PengRobinson1976,
+            Model::PengRobinson1978,
+        ] {
             let m = mixture(&blend.id, model);
             let b = m.bubble_at_temperature(263.15).unwrap();
             let d = m.dew_at_temperature(263.15).unwrap();
-            assert!(b.pressure_pa >= d.pressure_pa, "{} {model}: bubble above dew", blend.id);
+            assert!(
+                b.pressure_pa >= d.pressure_pa,
+                "{} {model}: bubble above dew",
+                blend.id
+            );
             assert!((b.incipient_mole_fractions.iter().sum::<f64>() - 1.0).abs() < 1e-12);
         }
     }

@@ -91,7 +91,7 @@ impl Transition {
             Transition::Freezing => "freezing",
             Transition::Sublimation => "sublimation",
             Transition::Deposition => "deposition",
-            Transition::CriticalPoint => "the critical point",
+            Transition::CriticalPoint => "critical-point approach",
         }
     }
 }

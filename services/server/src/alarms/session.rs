@@ -870,13 +870,13 @@ fn check(tag: &str, rule: &RuleSpec, evaluation: &Evaluation) -> Check {
         Some(v) if limits.beyond_limit(v) => (
             true,
             format!(
-                "{tag}: {} {} is {} the limit {}: risk of {}: {}{}",
+                "{tag}: {} {} is {} the limit {}: {} (transition at risk: {}){}",
                 kind.quantity(),
                 kind.format(v),
                 side(limits.bound),
                 kind.format(limits.limit),
-                transition.word(),
                 kind.consequence(transition),
+                transition.word(),
                 ambient_note(evaluation)
             ),
         ),
@@ -936,7 +936,7 @@ fn alarm_event(
             event.since_ms = Some(since_ms);
             event.message = format!(
                 "{tag}: {} priority alarm {} raised: {} {} {} the limit {} since {} ({}; \
-                 on-delay {}): risk of {}: {}{}",
+                 on-delay {}): {} (transition at risk: {}){}",
                 rule.priority.name(),
                 rule.name,
                 kind.quantity(),
@@ -946,8 +946,8 @@ fn alarm_event(
                 format_time(since_ms),
                 seconds(time_ms - since_ms),
                 seconds(limits.on_delay_ms),
-                transition.word(),
                 kind.consequence(transition),
+                transition.word(),
                 ambient_note(evaluation)
             );
         }
@@ -958,7 +958,7 @@ fn alarm_event(
             event.since_ms = Some(since_ms);
             event.message = format!(
                 "{tag}: alarm {} cleared: {} {} {} {} (limit {} with deadband {}) since {} ({}; \
-                 off-delay {}): {} risk has receded{}",
+                 off-delay {}): risk of {} has receded{}",
                 rule.name,
                 kind.quantity(),
                 kind.format(value),
@@ -1066,7 +1066,8 @@ impl Session {
         self.tags.len()
     }
 
-    /// Processes one request's readings, in order, then reports tags gone stale.
+    /// Processes one request's readings in order, reporting tags gone stale as the stream clock
+    /// passes their stale time.
     pub fn handle(&mut self, readings: Vec<ReadingIn>, repeated_opening: bool) -> Batch {
         let mut batch = Batch {
             outcomes: Vec::with_capacity(readings.len()),
@@ -1087,8 +1088,10 @@ impl Session {
         for reading in readings {
             let outcome = self.process(reading, &mut batch.events);
             batch.outcomes.push(outcome);
+            // The stream clock may have moved: tags silent for too long are reported in the
+            // request where the clock passes their stale time, however the readings are batched.
+            self.sweep(&mut batch.events);
         }
-        self.sweep(&mut batch.events);
         batch
     }
 
@@ -1234,7 +1237,8 @@ impl Session {
     }
 
     /// Reports tags with no usable reading for longer than the stale time, by the stream clock.
-    /// Runs at most every quarter of the stale time (at most every second) of stream time.
+    /// Looks at the tags at most every quarter of the stale time (at most every second) of stream
+    /// time, so that it costs little however many readings a request carries.
     fn sweep(&mut self, events: &mut Vec<Event>) {
         let Some(clock) = self.clock_ms else {
             return;
@@ -1279,10 +1283,9 @@ fn tag_fluid(
 ) -> Result<String, Problem> {
     if let (FluidChoice::Named(name), Some(given), Some(id)) =
         (&reading.fluid, &tag.fluid_given, &tag.fluid_id)
+        && name == given
     {
-        if name == given {
-            return Ok(id.clone());
-        }
+        return Ok(id.clone());
     }
     let id = match (&reading.fluid, &tag.fluid_id) {
         (FluidChoice::Absent, Some(id)) => return Ok(id.clone()),

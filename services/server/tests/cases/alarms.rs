@@ -546,6 +546,18 @@ async fn stale_tags_are_reported_and_resume() {
         "{:#?}",
         back.outcomes[0]
     );
+    // Within one request too: seven seconds of the other tag in one batch make it stale again.
+    let batch: Vec<pb::Reading> = (10..=16).map(|t| gauge("CO2-RK2-SUC", t)).collect();
+    let response = watch.send(batch).await;
+    let stale: Vec<&pb::AlarmEvent> = response
+        .events
+        .iter()
+        .filter(|e| kind_of(e) == pb::AlarmEventKind::TagStale)
+        .collect();
+    assert_eq!(stale.len(), 1, "{:#?}", response.events);
+    assert_eq!(stale[0].tag, "CO2-RK2-LT");
+    // Last usable reading at t = 9 s: stale once the clock passes 14 s, at the 15 s reading.
+    assert_eq!(stale[0].timestamp_unix_ms, Some(T0 + 15 * S));
     server.stop().await;
 }
 

@@ -22,8 +22,13 @@ const DEFAULT_MODEL: Model = Model::PengRobinson1978;
 const DEFAULT_EOS: pb::EquationOfState = pb::EquationOfState::PengRobinson1978;
 const DEFAULT_REFERENCE: ReferenceState = ReferenceState::LiquidAtZeroCelsius;
 
+/// The pure fluids of a listing (blends are checked separately).
 fn ids(list: &pb::ListFluidsResponse) -> Vec<String> {
-    list.fluids.iter().map(|f| f.fluid_id.clone()).collect()
+    list.fluids
+        .iter()
+        .filter(|f| f.kind == pb::FluidKind::Pure as i32)
+        .map(|f| f.fluid_id.clone())
+        .collect()
 }
 
 fn catalogue_ids<'a>(
@@ -45,9 +50,15 @@ async fn list_fluids_filters_by_safety_class() {
         .into_inner();
     assert_eq!(
         all.fluids.len(),
-        catalogue.fluids().len(),
-        "an empty request lists every fluid"
+        catalogue.fluids().len() + catalogue.blends().len(),
+        "an empty request lists every fluid and blend"
     );
+    let blends = all
+        .fluids
+        .iter()
+        .filter(|f| f.kind == pb::FluidKind::Blend as i32)
+        .count();
+    assert_eq!(blends, catalogue.blends().len());
 
     let a3 = client
         .list_fluids(pb::ListFluidsRequest {
@@ -95,6 +106,22 @@ async fn list_fluids_filters_by_safety_class() {
     );
     // R-717 ammonia is B2L (ASHRAE Standard 34, catalogue entry marked `from memory`).
     assert!(expected.contains("ammonia"));
+    // The A1 blends are listed too (R-410A, R-407C ... are A1, ASHRAE Standard 34, catalogue
+    // entries marked `from memory`).
+    let blends: BTreeSet<String> = a1_or_b2l
+        .fluids
+        .iter()
+        .filter(|f| f.kind == pb::FluidKind::Blend as i32)
+        .map(|f| f.fluid_id.clone())
+        .collect();
+    let expected_blends: BTreeSet<String> = catalogue
+        .blends()
+        .iter()
+        .filter(|b| matches!(b.safety_class, Some(SafetyClass::A1 | SafetyClass::B2L)))
+        .map(|b| b.id.clone())
+        .collect();
+    assert_eq!(blends, expected_blends);
+    assert!(blends.contains("r410a"));
 
     // Fluids without a safety group are listed under NOT_CLASSIFIED.
     let unclassified = client
@@ -350,7 +377,8 @@ async fn get_saturation_agrees_with_the_engine_and_published_values() {
             .id
             .clone();
         let accuracy = check_basis(answer.basis.as_ref(), &id, DEFAULT_EOS);
-        assert_eq!(answer.path, pb::ComputationPath::FullSolve as i32);
+        // Every published point lies below the curves' near-critical band.
+        assert_eq!(answer.path, pb::ComputationPath::PrecomputedCurve as i32);
 
         // Against the engine.
         let eos = engine(point.fluid, DEFAULT_MODEL, DEFAULT_REFERENCE);

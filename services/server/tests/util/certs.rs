@@ -56,7 +56,9 @@ fn leaf(
     issuer: &Issuer<'static, KeyPair>,
 ) -> Pem {
     let mut params = CertificateParams::new(names).expect("leaf parameters");
-    params.distinguished_name.push(DnType::CommonName, common_name);
+    params
+        .distinguished_name
+        .push(DnType::CommonName, common_name);
     params.use_authority_key_identifier_extension = true;
     params.key_usages = vec![KeyUsagePurpose::DigitalSignature];
     params.extended_key_usages = vec![usage];
