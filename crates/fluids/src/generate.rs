@@ -284,8 +284,8 @@ fn quote(s: &str) -> String {
 
 fn write_summary(out: &mut String, prefix: &str, s: &DeviationSummary) {
     let _ = writeln!(out, "{prefix}_points = {}", s.points);
-    let _ = writeln!(out, "{prefix}_t_min_k = {:.3}", s.t_min_k);
-    let _ = writeln!(out, "{prefix}_t_max_k = {:.3}", s.t_max_k);
+    let _ = writeln!(out, "{prefix}_from_k = {:.3}", s.t_min_k);
+    let _ = writeln!(out, "{prefix}_to_k = {:.3}", s.t_max_k);
     let _ = writeln!(out, "{prefix}_mean_abs_percent = {:.3}", s.mean_abs_percent);
     let _ = writeln!(out, "{prefix}_max_abs_percent = {:.3}", s.max_abs_percent);
     let _ = writeln!(out, "{prefix}_max_at_k = {:.3}", s.max_at_k);
@@ -436,8 +436,8 @@ impl Fields {
         let mut get = |name: &str| self.number(&format!("{prefix}_{name}"));
         Ok(Some(DeviationSummary {
             points: get("points")? as usize,
-            t_min_k: get("t_min_k")?,
-            t_max_k: get("t_max_k")?,
+            t_min_k: get("from_k")?,
+            t_max_k: get("to_k")?,
             mean_abs_percent: get("mean_abs_percent")?,
             max_abs_percent: get("max_abs_percent")?,
             max_at_k: get("max_at_k")?,

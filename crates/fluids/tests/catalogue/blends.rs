@@ -10,7 +10,10 @@ fn mixture(name: &str, model: Model) -> Mixture {
         .blend(name)
         .unwrap_or_else(|| panic!("{name} is a catalogue blend"));
     let parts = catalogue.blend_components(blend);
-    let eos: Vec<_> = parts.iter().map(|(f, _)| f.eos(model).unwrap()).collect();
+    let eos: Vec<_> = parts
+        .iter()
+        .map(|(record, _)| record.eos(model).unwrap())
+        .collect();
     let mass: Vec<f64> = parts.iter().map(|(_, w)| *w).collect();
     let z = Mixture::mole_fractions_from_mass(&eos, &mass);
     Mixture::new(eos, z, None).unwrap()

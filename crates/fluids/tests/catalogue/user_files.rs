@@ -45,32 +45,48 @@ fn a_valid_file_loads() {
         "the built-in catalogue is unchanged"
     );
 
-    let f = catalogue.get("R 601A").unwrap();
-    assert_eq!(f.id, "isopentane");
-    assert!(f.user_supplied);
+    let isopentane = catalogue.get("R 601A").unwrap();
+    assert_eq!(isopentane.id, "isopentane");
+    assert!(isopentane.user_supplied);
     assert_eq!(catalogue.get("hcs solvent ip-1").unwrap().id, "isopentane");
-    assert_eq!(f.constants.critical_temperature_k, 460.4);
-    assert_eq!(f.safety_class, Some(binodal_fluids::SafetyClass::A3));
+    assert_eq!(isopentane.constants.critical_temperature_k, 460.4);
+    assert_eq!(
+        isopentane.safety_class,
+        Some(binodal_fluids::SafetyClass::A3)
+    );
     assert!(
-        f.citation("molar_mass_kg_per_mol")
+        isopentane
+            .citation("molar_mass_kg_per_mol")
             .unwrap()
             .starts_with("Poling, Prausnitz")
     );
     assert_eq!(
-        f.citation("critical_pressure_pa"),
+        isopentane.citation("critical_pressure_pa"),
         Some("Harrowgate lab note HCS-17 (copied from Poling App. A)")
     );
     assert!(
-        f.citation("acentric_factor")
+        isopentane
+            .citation("acentric_factor")
             .unwrap()
             .contains("harrowgate.toml; no source given")
     );
-    let fit = f.constants.fit_for(Model::PengRobinson1978).unwrap();
+    let fit = isopentane
+        .constants
+        .fit_for(Model::PengRobinson1978)
+        .unwrap();
     assert_eq!(fit.volume_shift_m3_per_mol, 1.0e-6);
-    let eos = f.eos(Model::PengRobinson1978).unwrap();
+    let eos = isopentane.eos(Model::PengRobinson1978).unwrap();
     assert!(eos.alpha_is_fitted());
-    assert!(!f.eos(Model::SoaveRedlichKwong).unwrap().alpha_is_fitted());
-    assert!(f.accuracy.is_empty(), "user fluids have no accuracy record");
+    assert!(
+        !isopentane
+            .eos(Model::SoaveRedlichKwong)
+            .unwrap()
+            .alpha_is_fitted()
+    );
+    assert!(
+        isopentane.accuracy.is_empty(),
+        "user fluids have no accuracy record"
+    );
 
     // The minimal fluid gets the user-fluid caution, so results still carry a warning.
     let minimal = catalogue.get("hcsminimal").unwrap();
