@@ -467,8 +467,11 @@ impl Evaluator {
 
     /// The catalogue id of a fluid name.
     fn resolve(&self, name: &str) -> Result<String, Problem> {
-        self.engines
-            .catalogue()
+        let catalogue = self.engines.catalogue();
+        if let Some(blend) = catalogue.blend(name) {
+            return Ok(blend.id.clone());
+        }
+        catalogue
             .get(name)
             .map(|record| record.id.clone())
             .map_err(|e| Problem::new(QualityIssue::FluidUnknown, format!("fluid: {e}")))
@@ -618,6 +621,13 @@ impl Evaluator {
     /// Evaluates a reading of fluid `fluid_id`: checks its inputs and asks the engine.
     fn measure(&self, reading: &ReadingIn, fluid_id: &str) -> Result<Evaluation, Vec<Problem>> {
         let inputs = self.inputs(reading)?;
+        if let Some(blend) = self
+            .engines
+            .choose_blend(fluid_id, self.setup.model, None)
+            .map_err(|e| vec![service_problem(e)])?
+        {
+            return self.measure_blend(&inputs, &blend);
+        }
         let chosen = self
             .engines
             .choose(fluid_id, self.setup.model, None)
@@ -657,8 +667,53 @@ impl Evaluator {
         })
     }
 
+    /// Evaluates a blend: subcooling against the bubble point, superheat and dew margin
+    /// against the dew point, the critical fraction against the pseudo-critical pressure
+    /// (Kay's rule). Blends have no solid estimate, so no freezing margin.
+    fn measure_blend(
+        &self,
+        inputs: &Inputs,
+        blend: &crate::engines::MixtureChoice,
+    ) -> Result<Evaluation, Vec<Problem>> {
+        let state = blend
+            .mixture
+            .state(inputs.temperature_k, inputs.pressure_pa)
+            .map_err(|e| vec![engine_problem(&e)])?;
+        let (_, pc) = blend.mixture.pseudo_critical();
+        Ok(Evaluation {
+            fluid_id: blend.id.clone(),
+            phase: state.phase,
+            margins: AlarmMargins {
+                saturation_temperature_k: state.dew_temperature_k,
+                saturation_pressure_pa: state.bubble_pressure_pa,
+                subcooling_k: state.subcooling_k,
+                superheat_k: state.superheat_k,
+                dew_margin_k: state.superheat_k,
+                critical_pressure_fraction: state.reduced_pressure,
+                pressure_below_critical_pa: pc - inputs.pressure_pa,
+                freezing_margin_k: None,
+            },
+            absolute_pressure_pa: inputs.pressure_pa,
+            temperature_k: inputs.temperature_k,
+            ambient: inputs.ambient,
+            estimated: false,
+            near_critical: state.near_critical,
+            critical_pressure_pa: pc,
+            freezing_transition: freezing_transition(inputs.pressure_pa, None, false),
+            has_solid_boundary: false,
+        })
+    }
+
     /// The caution notice for a fluid (its safety class and caution, as `GetState` gives them).
     fn caution(&self, fluid_id: &str) -> Option<Event> {
+        if let Ok(Some(blend)) = self.engines.choose_blend(fluid_id, self.setup.model, None) {
+            return Some(Event::notice(format!(
+                "{} ({}): {}",
+                blend.name,
+                blend.id,
+                convert::mixture_basis(&blend).caution
+            )));
+        }
         let chosen = self.engines.choose(fluid_id, self.setup.model, None).ok()?;
         Some(Event::notice(format!(
             "{} ({}): {}",
@@ -752,9 +807,11 @@ struct Inputs {
 }
 
 fn mixture_problem() -> Problem {
+    // Catalogue blends (e.g. R-407C) are evaluated; a custom mixture in a reading is not.
     Problem::new(
         QualityIssue::MixtureNotAvailable,
-        "fluid: mixtures not available yet; name a pure catalogue fluid (ListFluids lists them)",
+        "fluid: custom mixtures are not evaluated by the alarm watch yet; name a pure catalogue \
+         fluid or a catalogue blend such as R-407C (ListFluids lists them)",
     )
 }
 

@@ -723,6 +723,59 @@ async fn evaluate_readings_judges_each_reading_without_state() {
     server.stop().await;
 }
 
+/// A catalogue blend is evaluated against its dew point: the superheat of an R-407C suction
+/// reading equals GetState's superheat (temperature minus the dew temperature at the reading's
+/// pressure, the definition of the trade for zeotropic blends, common practice).
+#[tokio::test]
+async fn blend_readings_use_the_dew_point() {
+    let server = TestServer::start().await;
+    let mut alarms = AlarmServiceClient::new(server.channel().await);
+    let mut phase = super::phase_client(&server).await;
+    let (t, p) = (283.15, 4.0e5);
+    let state = phase
+        .get_state(pb::GetStateRequest {
+            fluid: fluid("R-407C"),
+            temperature_k: t,
+            pressure_pa: p,
+            ..Default::default()
+        })
+        .await
+        .expect("state of R-407C")
+        .into_inner();
+    let expected = state
+        .margins
+        .expect("margins")
+        .superheat_k
+        .expect("superheat");
+    let request = pb::EvaluateReadingsRequest {
+        setup: Some(opening(
+            "KL-CH2-SUC",
+            vec![rule(
+                pb::AlarmRuleKind::MinimumSuperheat,
+                5.0,
+                1.0,
+                15.0,
+                15.0,
+            )],
+        )),
+        readings: vec![reading("KL-CH2-SUC", "R-407C", 0, t, p)],
+    };
+    let answer = alarms
+        .evaluate_readings(request)
+        .await
+        .expect("evaluation")
+        .into_inner();
+    let outcome = &answer.outcomes[0];
+    assert!(outcome.evaluated, "{outcome:?}");
+    let value = outcome.checks[0].value.expect("superheat value");
+    assert!((value - expected).abs() < 1e-9, "{value} vs {expected}");
+    assert_eq!(
+        outcome.checks[0].transition,
+        pb::AlarmTransition::Condensation as i32
+    );
+    server.stop().await;
+}
+
 /// A stream outlives the server's request timeout (it limits calls, not stream lifetimes), and
 /// ends with UNAVAILABLE when the server shuts down, so that shutdown does not wait for it.
 #[tokio::test]
