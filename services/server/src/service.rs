@@ -10,7 +10,7 @@ use tonic::{Request, Response, Status};
 
 use crate::convert::{self, FluidRequest};
 use crate::engines::{Chosen, Engines, MixtureChoice};
-use crate::status::{ServiceError, engine_code};
+use crate::status::ServiceError;
 use crate::telemetry::{record_fluid, record_fluid_name};
 
 /// Batches at least this long are computed on rayon's pool (one thread per core), so that a
@@ -151,17 +151,7 @@ fn mixture_batch(choice: &MixtureChoice, ts: &[f64], ps: &[f64]) -> pb::GetState
         let (r, ok) = match point {
             Ok(r) => (r, true),
             Err(e) => {
-                let code = match engine_code(&e) {
-                    tonic::Code::OutOfRange => pb::PointErrorCode::OutOfRange,
-                    tonic::Code::Internal => pb::PointErrorCode::NotConverged,
-                    tonic::Code::InvalidArgument => pb::PointErrorCode::InvalidInput,
-                    _ => pb::PointErrorCode::Internal,
-                };
-                out.errors.push(pb::PointError {
-                    index: i as u32,
-                    code: code as i32,
-                    message: e.to_string(),
-                });
+                out.errors.push(convert::point_error(i, &e));
                 (pb::GetStateResponse::default(), false)
             }
         };
