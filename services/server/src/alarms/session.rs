@@ -9,7 +9,8 @@
 //!    "out of order", an equal one a "duplicate"; both are ignored without touching the tag;
 //! 3. the quality flag is not BAD;
 //! 4. a pure catalogue fluid is named (by the reading, the tag's setup, the settings or an earlier
-//!    reading), and on a stream it is the tag's earlier fluid; mixtures are not available yet;
+//!    reading), and on a stream it is the tag's earlier fluid; a custom mixture is checked
+//!    and tracked by its components and fractions;
 //! 5. pressure, its kind (gauge or absolute), the ambient for a gauge reading, and temperature
 //!    are present and valid (every problem among them is reported);
 //! 6. the engine can classify the state.
@@ -41,9 +42,17 @@ pub enum FluidChoice {
     Absent,
     /// A catalogue fluid by name, number or alias.
     Named(String),
-    /// A mixture (not available yet).
-    Mixture,
+    /// A custom mixture: its components and fractions (normalised) and whether they are mass
+    /// fractions, or why the mixture as sent is not valid.
+    Mixture(MixtureIn),
 }
+
+/// A custom mixture as read from a reading: `(components with normalised fractions, whether
+/// the fractions are by mass)`, or why it could not be read.
+pub type MixtureIn = Result<(Vec<(String, f64)>, bool), String>;
+
+/// The prefix of the key under which a custom mixture is tracked per tag.
+const MIXTURE_KEY: &str = "mixture:";
 
 /// The pressure kind as sent.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -147,7 +156,7 @@ pub enum QualityIssue {
     /// Fluid not in the catalogue.
     FluidUnknown,
     /// A mixture.
-    MixtureNotAvailable,
+    MixtureInvalid,
     /// A different fluid from the tag's earlier one.
     FluidChanged,
     /// No pressure.
@@ -465,6 +474,36 @@ impl Evaluator {
         }
     }
 
+    /// Checks a custom mixture and returns the key it is tracked under: its components and
+    /// fractions in a canonical text, so that a tag keeps one mixture per stream.
+    fn mixture_key(&self, mixture: &MixtureIn) -> Result<String, Problem> {
+        let (parts, mass_basis) = mixture
+            .as_ref()
+            .map_err(|message| Problem::new(QualityIssue::MixtureInvalid, message.clone()))?;
+        let mass_basis = *mass_basis;
+        let mut key = String::from(MIXTURE_KEY);
+        key.push_str(if mass_basis { "mass" } else { "mole" });
+        for (name, fraction) in parts.iter() {
+            let id = self.resolve(name)?;
+            key.push_str(&format!(";{id}={fraction}"));
+        }
+        Ok(key)
+    }
+
+    /// The mixture behind a key made by [`Self::mixture_key`].
+    fn mixture_from_key(&self, key: &str) -> Result<crate::engines::MixtureChoice, Problem> {
+        let rest = key.strip_prefix(MIXTURE_KEY).ok_or_else(mixture_problem)?;
+        let mut fields = rest.split(';');
+        let mass_basis = fields.next() == Some("mass");
+        let parts: Vec<(String, f64)> = fields
+            .filter_map(|f| f.split_once('='))
+            .filter_map(|(id, x)| x.parse().ok().map(|x| (id.to_string(), x)))
+            .collect();
+        self.engines
+            .choose_custom(&parts, mass_basis, self.setup.model, None, Vec::new())
+            .map_err(service_problem)
+    }
+
     /// The catalogue id of a fluid name.
     fn resolve(&self, name: &str) -> Result<String, Problem> {
         let catalogue = self.engines.catalogue();
@@ -485,7 +524,7 @@ impl Evaluator {
         };
         match choice {
             FluidChoice::Named(name) => self.resolve(name),
-            FluidChoice::Mixture => Err(mixture_problem()),
+            FluidChoice::Mixture(mixture) => self.mixture_key(mixture),
             FluidChoice::Absent => Err(Problem::new(
                 QualityIssue::FluidMissing,
                 "fluid: missing; name the fluid in the reading, in the tag's setup of the opening \
@@ -621,6 +660,10 @@ impl Evaluator {
     /// Evaluates a reading of fluid `fluid_id`: checks its inputs and asks the engine.
     fn measure(&self, reading: &ReadingIn, fluid_id: &str) -> Result<Evaluation, Vec<Problem>> {
         let inputs = self.inputs(reading)?;
+        if fluid_id.starts_with(MIXTURE_KEY) {
+            let mixture = self.mixture_from_key(fluid_id).map_err(|p| vec![p])?;
+            return self.measure_blend(&inputs, &mixture);
+        }
         if let Some(blend) = self
             .engines
             .choose_blend(fluid_id, self.setup.model, None)
@@ -667,7 +710,7 @@ impl Evaluator {
         })
     }
 
-    /// Evaluates a blend: subcooling against the bubble point, superheat and dew margin
+    /// Evaluates a blend or custom mixture: subcooling against the bubble point, superheat and dew margin
     /// against the dew point, the critical fraction against the pseudo-critical pressure
     /// (Kay's rule). Blends have no solid estimate, so no freezing margin.
     fn measure_blend(
@@ -706,6 +749,14 @@ impl Evaluator {
 
     /// The caution notice for a fluid (its safety class and caution, as `GetState` gives them).
     fn caution(&self, fluid_id: &str) -> Option<Event> {
+        if fluid_id.starts_with(MIXTURE_KEY) {
+            let mixture = self.mixture_from_key(fluid_id).ok()?;
+            return Some(Event::notice(format!(
+                "{}: {}",
+                mixture.name,
+                convert::mixture_basis(&mixture).caution
+            )));
+        }
         if let Ok(Some(blend)) = self.engines.choose_blend(fluid_id, self.setup.model, None) {
             return Some(Event::notice(format!(
                 "{} ({}): {}",
@@ -807,11 +858,9 @@ struct Inputs {
 }
 
 fn mixture_problem() -> Problem {
-    // Catalogue blends (e.g. R-407C) are evaluated; a custom mixture in a reading is not.
     Problem::new(
-        QualityIssue::MixtureNotAvailable,
-        "fluid: custom mixtures are not evaluated by the alarm watch yet; name a pure catalogue \
-         fluid or a catalogue blend such as R-407C (ListFluids lists them)",
+        QualityIssue::MixtureInvalid,
+        "fluid: the mixture could not be read; give components and fractions with a fraction basis",
     )
 }
 
@@ -830,7 +879,7 @@ fn service_problem(error: ServiceError) -> Problem {
             QualityIssue::CalculationFailed,
             format!("{field}: {message}"),
         ),
-        ServiceError::Unimplemented(what) => Problem::new(QualityIssue::MixtureNotAvailable, what),
+        ServiceError::Unimplemented(what) => Problem::new(QualityIssue::MixtureInvalid, what),
     }
 }
 

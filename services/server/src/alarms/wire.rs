@@ -26,7 +26,18 @@ fn fluid_choice(selector: Option<&pb::FluidSelector>) -> FluidChoice {
         Some(pb::fluid_selector::Choice::Fluid(name)) if !name.trim().is_empty() => {
             FluidChoice::Named(name.clone())
         }
-        Some(pb::fluid_selector::Choice::Mixture(_)) => FluidChoice::Mixture,
+        Some(pb::fluid_selector::Choice::Mixture(_)) => {
+            FluidChoice::Mixture(match crate::convert::fluid_request(selector) {
+                Ok(crate::convert::FluidRequest::Mixture {
+                    parts, mass_basis, ..
+                }) => Ok((parts, mass_basis)),
+                Ok(_) => Err("fluid: not a mixture".to_string()),
+                Err(ServiceError::InvalidField { field, message }) => {
+                    Err(format!("{field}: {message}"))
+                }
+                Err(other) => Err(format!("fluid: {other:?}")),
+            })
+        }
         _ => FluidChoice::Absent,
     }
 }
@@ -113,7 +124,7 @@ fn quality_to_proto(issue: QualityIssue) -> pb::QualityIssue {
         Q::DuplicateTimestamp => pb::QualityIssue::DuplicateTimestamp,
         Q::FluidMissing => pb::QualityIssue::FluidMissing,
         Q::FluidUnknown => pb::QualityIssue::FluidUnknown,
-        Q::MixtureNotAvailable => pb::QualityIssue::MixtureNotAvailable,
+        Q::MixtureInvalid => pb::QualityIssue::MixtureInvalid,
         Q::FluidChanged => pb::QualityIssue::FluidChanged,
         Q::PressureMissing => pb::QualityIssue::PressureMissing,
         Q::PressureKindMissing => pb::QualityIssue::PressureKindMissing,

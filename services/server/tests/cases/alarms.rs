@@ -403,10 +403,11 @@ async fn bad_readings_get_quality_events_and_never_end_the_stream() {
                     fraction: 0.5,
                 },
             ],
-            fraction_basis: pb::FractionBasis::Mass as i32,
+            // No fraction basis: the mixture cannot be read.
+            fraction_basis: pb::FractionBasis::Unspecified as i32,
         })),
     });
-    cases.push((r, vec![Q::MixtureNotAvailable]));
+    cases.push((r, vec![Q::MixtureInvalid]));
     let mut r = reading("NO-FLUID", "R-717", 20, 300.0, 5.0e5);
     r.fluid = None;
     cases.push((r, vec![Q::FluidMissing]));
@@ -773,6 +774,59 @@ async fn blend_readings_use_the_dew_point() {
         outcome.checks[0].transition,
         pb::AlarmTransition::Condensation as i32
     );
+    server.stop().await;
+}
+
+/// A custom mixture in a reading is evaluated like the same blend named by the catalogue:
+/// 50/50 by mass is R-410A's nominal composition (ASHRAE 34, catalogue entry
+/// marked `from memory`), so its superheat equals the R-410A tag's.
+#[tokio::test]
+async fn custom_mixture_readings_match_the_named_blend() {
+    let server = TestServer::start().await;
+    let mut alarms = AlarmServiceClient::new(server.channel().await);
+    let (t, p) = (283.15, 8.0e5);
+    let mut custom = reading("MIX-SUC", "R-410A", 0, t, p);
+    custom.fluid = Some(pb::FluidSelector {
+        choice: Some(pb::fluid_selector::Choice::Mixture(pb::Mixture {
+            components: vec![
+                pb::MixtureComponent {
+                    fluid: "R-32".into(),
+                    fraction: 0.5,
+                },
+                pb::MixtureComponent {
+                    fluid: "R-125".into(),
+                    fraction: 0.5,
+                },
+            ],
+            fraction_basis: pb::FractionBasis::Mass as i32,
+        })),
+    });
+    let rules = vec![rule(
+        pb::AlarmRuleKind::MinimumSuperheat,
+        5.0,
+        1.0,
+        15.0,
+        15.0,
+    )];
+    let mut setup = opening("BLEND-SUC", rules.clone());
+    setup.default_rules = rules;
+    let request = pb::EvaluateReadingsRequest {
+        setup: Some(setup),
+        readings: vec![reading("BLEND-SUC", "R-410A", 0, t, p), custom],
+    };
+    let answer = alarms
+        .evaluate_readings(request)
+        .await
+        .expect("evaluation")
+        .into_inner();
+    assert!(answer.outcomes[1].evaluated, "{:?}", answer.outcomes[1]);
+    let named = answer.outcomes[0].checks[0]
+        .value
+        .expect("named blend superheat");
+    let mixed = answer.outcomes[1].checks[0]
+        .value
+        .expect("custom mixture superheat");
+    assert!((named - mixed).abs() < 1e-9, "{named} vs {mixed}");
     server.stop().await;
 }
 
