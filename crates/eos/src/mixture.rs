@@ -38,6 +38,9 @@ pub struct Mixture {
     /// answer is the pure fluid's, exactly.
     single: Option<usize>,
     reference: Option<(ReferenceState, f64, f64)>,
+    /// Bubble and dew pressure at the minimum temperature: the low end of the pressure range
+    /// of `bubble_at_pressure` and `dew_at_pressure`, found once on first use.
+    lowest_pressures: [std::sync::OnceLock<f64>; 2],
 }
 
 /// A bubble or dew point: the mixture at its composition in equilibrium with an incipient
@@ -221,6 +224,7 @@ impl Mixture {
             kij: k,
             single,
             reference: None,
+            lowest_pressures: Default::default(),
         })
     }
 
@@ -651,7 +655,14 @@ impl Mixture {
             .fold(0.0, f64::max);
         // The pressure range: between the boundary pressure at the lowest temperature and
         // the highest temperature at which the boundary still exists.
-        let p_low = self.boundary_pressure(t_min, bubble)?.pressure_pa;
+        let cell = &self.lowest_pressures[usize::from(bubble)];
+        let p_low = match cell.get() {
+            Some(&p) => p,
+            None => {
+                let p = self.boundary_pressure(t_min, bubble)?.pressure_pa;
+                *cell.get_or_init(|| p)
+            }
+        };
         if p < p_low {
             return Err(Error::outside_envelope(
                 "pressure_pa",

@@ -28,8 +28,11 @@ struct FluidEngines {
 pub struct Engines {
     catalogue: Catalogue,
     fluids: HashMap<String, FluidEngines>,
-    /// Every catalogue blend under every model and reference state.
-    blends: HashMap<(String, Model, ReferenceState), Result<Arc<Mixture>, binodal_eos::Error>>,
+    /// Every catalogue blend (by its position in the catalogue's blend list) under every model
+    /// and reference state.
+    blends: HashMap<(usize, Model, ReferenceState), Result<Arc<Mixture>, binodal_eos::Error>>,
+    /// Each catalogue blend's component records with their mass fractions, by position.
+    blend_components: Vec<Arc<[(FluidRecord, f64)]>>,
     /// Every name of every catalogue blend (id, display name, ASHRAE number, aliases),
     /// normalized, to its position in the catalogue's blend list: a request resolves a blend
     /// name with one normalization and one hash look-up.
@@ -63,7 +66,7 @@ pub struct MixtureChoice {
     /// The prepared mixture.
     pub mixture: Arc<Mixture>,
     /// The component records with the fractions as given.
-    pub components: Vec<(FluidRecord, f64)>,
+    pub components: Arc<[(FluidRecord, f64)]>,
     /// The caution to show.
     pub caution: String,
     /// ASHRAE 34 class of a catalogue blend.
@@ -106,23 +109,26 @@ impl Engines {
             catalogue,
             fluids,
             blends: HashMap::new(),
+            blend_components: Vec::new(),
             blend_names: HashMap::new(),
             default_model,
             default_reference,
         };
         let mut blends = HashMap::new();
-        for blend in engines.catalogue.blends() {
-            let parts: Vec<(String, f64)> = blend.components.clone();
+        let mut blend_components = Vec::new();
+        for (i, blend) in engines.catalogue.blends().iter().enumerate() {
             for model in Model::ALL {
                 for reference in REFERENCES {
                     let mixture = engines
-                        .build_mixture(&parts, true, model, Some(reference))
+                        .build_mixture(&blend.components, true, model, Some(reference))
                         .map(|(m, _)| Arc::new(m));
-                    blends.insert((blend.id.clone(), model, reference), mixture);
+                    blends.insert((i, model, reference), mixture);
                 }
             }
+            blend_components.push(engines.component_records(&blend.components));
         }
         engines.blends = blends;
+        engines.blend_components = blend_components;
         let mut blend_names = HashMap::new();
         for (i, blend) in engines.catalogue.blends().iter().enumerate() {
             let names = [
@@ -190,18 +196,15 @@ impl Engines {
         reference: Option<ReferenceState>,
     ) -> Result<Option<MixtureChoice>, ServiceError> {
         let key = binodal_fluids::normalize(name);
-        let Some(blend) = self
-            .blend_names
-            .get(&key)
-            .map(|&i| &self.catalogue.blends()[i])
-        else {
+        let Some(&index) = self.blend_names.get(&key) else {
             return Ok(None);
         };
+        let blend = &self.catalogue.blends()[index];
         let model = model.unwrap_or(self.default_model);
         let reference = reference.unwrap_or(self.default_reference);
         let mixture = self
             .blends
-            .get(&(blend.id.clone(), model, reference))
+            .get(&(index, model, reference))
             .expect("every blend is prepared")
             .clone()
             .map_err(ServiceError::Engine)?;
@@ -209,7 +212,7 @@ impl Engines {
             id: blend.id.clone(),
             name: blend.name.clone(),
             reference: mixture.reference_state(),
-            components: self.component_records(&blend.components),
+            components: Arc::clone(&self.blend_components[index]),
             caution: blend.caution.clone(),
             safety_class: blend.safety_class,
             warnings: Vec::new(),
@@ -276,7 +279,7 @@ impl Engines {
         })
     }
 
-    fn component_records(&self, parts: &[(String, f64)]) -> Vec<(FluidRecord, f64)> {
+    fn component_records(&self, parts: &[(String, f64)]) -> Arc<[(FluidRecord, f64)]> {
         parts
             .iter()
             .map(|(id, w)| (self.catalogue.get(id).expect("resolved").clone(), *w))
