@@ -4,7 +4,8 @@
 //! Every `binodal.v1.PhaseService` call only reads, so it is idempotent: sending it again after a
 //! failure cannot do harm. A call is retried when the failure says that the server did not
 //! answer it: UNAVAILABLE (the replica was unreachable, shut down, went away mid-call, or shed
-//! the load) and UNKNOWN caused by the transport (a connection reset by a replica that died).
+//! the load), and UNKNOWN or CANCELLED raised by this client's own transport (a connection reset
+//! or closed by a replica that died while the call was on it).
 //! Answers the server gave on purpose (INVALID_ARGUMENT, NOT_FOUND, ...) are never retried.
 //!
 //! gRPC keeps one long-lived HTTP/2 connection per server, so a load balancer that balances
@@ -69,9 +70,10 @@ fn random_fraction() -> f64 {
 pub fn is_retryable(status: &Status) -> bool {
     match status.code() {
         Code::Unavailable => true,
-        // A connection that broke mid-call (a replica killed) surfaces as UNKNOWN with the
-        // transport error as its source; UNKNOWN sent by a server has no source.
-        Code::Unknown => std::error::Error::source(status).is_some(),
+        // A connection that broke mid-call (a replica killed) surfaces as UNKNOWN (reset) or
+        // CANCELLED (closed) with the client's transport error as its source; the same codes
+        // sent by a server arrive as trailers and carry no source.
+        Code::Unknown | Code::Cancelled => std::error::Error::source(status).is_some(),
         _ => false,
     }
 }
