@@ -4,7 +4,7 @@
 use crate::alpha::Alpha;
 use crate::cubic::{CubicRoots, solve_cubic};
 use crate::error::{Error, ErrorKind, positive};
-use crate::fluid::{FluidConstants, GAS_CONSTANT as R, IdealGasCp};
+use crate::fluid::{FluidConstants, GAS_CONSTANT as R, IdealGasCp, VolumeShift};
 use crate::model::{CubicConstants, Model};
 
 /// Temperature of the ideal-gas enthalpy and entropy integrals' lower end, K.
@@ -80,7 +80,7 @@ pub struct PureEos {
     molar_mass: f64,
     a_c: f64,
     b: f64,
-    shift: f64,
+    shift: VolumeShift,
     t_min: f64,
     /// Reduced co-volume at the critical point, `Vc / b = Zc / Omega_b`.
     pub(crate) v_c_reduced: f64,
@@ -103,17 +103,24 @@ impl PureEos {
         let cubic = model.constants();
         let fit = fluid.fit_for(model);
         let (alpha, alpha_fitted, shift) = match fit {
-            Some(f) => (f.alpha, true, f.volume_shift_m3_per_mol),
-            None => (model.generalized_alpha(fluid.acentric_factor), false, 0.0),
+            Some(f) => (f.alpha, true, f.volume_shift),
+            None => (
+                model.generalized_alpha(fluid.acentric_factor),
+                false,
+                VolumeShift::default(),
+            ),
         };
         let tc = fluid.critical_temperature_k;
         let pc = fluid.critical_pressure_pa;
         let b = cubic.omega_b * R * tc / pc;
-        if shift.abs() >= b {
+        if shift.largest_magnitude() >= b {
             return Err(Error::invalid(
-                "volume_shift_m3_per_mol",
-                shift,
-                format!("must be smaller in magnitude than the co-volume b = {b:.6e} m^3/mol"),
+                "volume_shift",
+                shift.largest_magnitude(),
+                format!(
+                    "|c(T)| must stay smaller than the co-volume b = {b:.6e} m^3/mol at every \
+                     temperature"
+                ),
             ));
         }
         let mut eos = PureEos {
@@ -187,7 +194,8 @@ impl PureEos {
         let h_ig = R * ideal.enthalpy_over_r(T_IDEAL_ORIGIN, t_ref);
         let s_ig = R * ideal.entropy_over_r(T_IDEAL_ORIGIN, t_ref)
             - R * (sat.pressure / P_IDEAL_ORIGIN).ln();
-        let h_offset = h_target - (h_ig + liquid.h_res - self.shift * sat.pressure);
+        let liquid = self.translated(t_ref, sat.pressure, liquid);
+        let h_offset = h_target - (h_ig + liquid.h_res);
         let s_offset = s_target - (s_ig + liquid.s_res);
         self.reference = Some((reference, h_offset, s_offset));
         Ok(self)
@@ -213,9 +221,26 @@ impl PureEos {
         self.alpha_fitted
     }
 
-    /// The volume shift in use, m^3/mol.
-    pub fn volume_shift_m3_per_mol(&self) -> f64 {
+    /// The volume translation in use.
+    pub fn volume_shift(&self) -> VolumeShift {
         self.shift
+    }
+
+    /// `(c, dc/dT, d2c/dT2)` of the volume translation at `t` (m^3/mol, per K, per K^2).
+    pub fn volume_shift_at(&self, t: f64) -> (f64, f64, f64) {
+        self.shift.at(t, self.tc)
+    }
+
+    /// Residual quantities of the translated fluid from those of the untranslated cubic:
+    /// translation multiplies every phase's fugacity coefficient by `exp(-cP/RT)`, adds
+    /// `T P dc/dT - P c` to the enthalpy and `P dc/dT` to the entropy.
+    pub(crate) fn translated(&self, t: f64, p: f64, res: Residual) -> Residual {
+        let (c, dc, _) = self.volume_shift_at(t);
+        Residual {
+            ln_phi: res.ln_phi - c * p / (R * t),
+            h_res: res.h_res + (t * dc - c) * p,
+            s_res: res.s_res + p * dc,
+        }
     }
 
     /// The reference state in use, if absolute h and s are available.
@@ -338,16 +363,15 @@ impl PureEos {
 
     /// Full properties of the phase with compressibility root `z` at (T, P).
     pub fn phase_properties(&self, t: f64, p: f64, z: f64) -> PhaseProperties {
-        let res = self.residual(t, p, z);
+        let res = self.translated(t, p, self.residual(t, p, z));
         let v_eos = z * R * t / p;
-        let v = v_eos - self.shift;
+        let v = v_eos - self.volume_shift_at(t).0;
         let mut out = PhaseProperties {
             molar_volume_m3_per_mol: v,
             density_kg_per_m3: self.molar_mass / v,
             compressibility: p * v / (R * t),
-            // Translation multiplies the fugacity coefficient of every phase by exp(-cP/RT).
-            fugacity_coefficient: (res.ln_phi - self.shift * p / (R * t)).exp(),
-            residual_enthalpy_j_per_mol: res.h_res - self.shift * p,
+            fugacity_coefficient: res.ln_phi.exp(),
+            residual_enthalpy_j_per_mol: res.h_res,
             residual_entropy_j_per_mol_k: res.s_res,
             enthalpy_j_per_mol: None,
             entropy_j_per_mol_k: None,
@@ -356,7 +380,7 @@ impl PureEos {
         };
         if let Some(ideal) = &self.ideal {
             let cp_ig = R * ideal.cp_over_r(t);
-            let (cv, cp) = self.heat_capacities(t, v_eos, cp_ig);
+            let (cv, cp) = self.heat_capacities(t, p, v_eos, cp_ig);
             out.isobaric_heat_capacity_j_per_mol_k = Some(cp);
             out.isochoric_heat_capacity_j_per_mol_k = Some(cv);
             if let Some((_, h_off, s_off)) = self.reference {
@@ -370,8 +394,10 @@ impl PureEos {
         out
     }
 
-    /// (cv, cp) in J/(mol K) at temperature `t` and untranslated molar volume `v`.
-    fn heat_capacities(&self, t: f64, v: f64, cp_ig: f64) -> (f64, f64) {
+    /// (cv, cp) in J/(mol K) at temperature `t`, pressure `p` and untranslated molar volume
+    /// `v`. Translation adds `T P d2c/dT2` to cp, and cv follows from the translated
+    /// `(dP/dT)_V = (dP/dT)_Veos + (dP/dVeos) dc/dT`.
+    fn heat_capacities(&self, t: f64, p: f64, v: f64, cp_ig: f64) -> (f64, f64) {
         let (a, da, d2a) = self.attraction(t);
         let b = self.b;
         let (d1, d2) = (self.cubic.delta1, self.cubic.delta2);
@@ -380,8 +406,15 @@ impl PureEos {
         let denom = (v + d1 * b) * (v + d2 * b);
         let dp_dt = R / (v - b) - da / denom;
         let dp_dv = -R * t / ((v - b) * (v - b)) + a * (2.0 * v + (d1 + d2) * b) / (denom * denom);
-        let cv = cp_ig - R + cv_res;
-        let cp = cv - t * dp_dt * dp_dt / dp_dv;
+        let cv_eos = cp_ig - R + cv_res;
+        let cp_eos = cv_eos - t * dp_dt * dp_dt / dp_dv;
+        let (_, dc, d2c) = self.volume_shift_at(t);
+        if dc == 0.0 && d2c == 0.0 {
+            return (cv_eos, cp_eos);
+        }
+        let cp = cp_eos + t * p * d2c;
+        let dp_dt_translated = dp_dt + dp_dv * dc;
+        let cv = cp + t * dp_dt_translated * dp_dt_translated / dp_dv;
         (cv, cp)
     }
 

@@ -3,15 +3,16 @@
 //! The three alpha parameters minimise the mean squared relative error in vapor pressure,
 //! `mean((ln Psat_model - ln P_ref)^2)`, plus the squared relative error in enthalpy of
 //! vaporization (weight 0.05) where the data has it (below 0.95 Tc), with argmin's Nelder-Mead simplex
-//! restarted once from its own result. The Peneloux
-//! volume shift is then the weighted least-squares constant that best matches the
-//! saturated-liquid molar volumes up to a chosen reduced temperature; it does not affect
-//! the vapor pressures.
+//! restarted once from its own result. The volume translation is then fitted by linear
+//! least squares to the saturated-liquid molar volumes up to a chosen reduced temperature:
+//! a constant Peneloux shift plus a smooth temperature dependence (see [`VolumeShift`]),
+//! because one constant cannot follow the liquid volume of a polar fluid such as water. It
+//! does not affect the vapor pressures.
 
 use crate::alpha::Alpha;
 use crate::eos::PureEos;
 use crate::error::Error;
-use crate::fluid::{FluidConstants, ModelFit};
+use crate::fluid::{FluidConstants, ModelFit, VolumeShift};
 use crate::model::Model;
 use argmin::core::{CostFunction, Executor, State};
 use argmin::solver::neldermead::NelderMead;
@@ -136,7 +137,7 @@ impl CostFunction for VaporPressureCost<'_> {
         let fit = ModelFit {
             model: self.model,
             alpha: alpha_from(self.form, p),
-            volume_shift_m3_per_mol: 0.0,
+            volume_shift: VolumeShift::default(),
         };
         let Ok(eos) = PureEos::new(&with_fit(self.fluid, fit), self.model) else {
             return Ok(PENALTY);
@@ -235,37 +236,32 @@ pub fn fit_saturation(
     }
     let alpha = alpha_from(form, &best);
 
-    // Volume shift: minimise sum(((V_eos - c) - V_ref) / V_ref)^2 in closed form.
     let unshifted = PureEos::new(
         &with_fit(
             fluid,
             ModelFit {
                 model,
                 alpha,
-                volume_shift_m3_per_mol: 0.0,
+                volume_shift: VolumeShift::default(),
             },
         ),
         model,
     )?;
     let tc = fluid.critical_temperature_k;
-    let mut num = 0.0;
-    let mut den = 0.0;
+    let mut volumes = Vec::new();
     for pt in points {
         if let Some(rho) = pt.liquid_density_kg_per_m3
             && pt.temperature_k / tc <= density_max_reduced_temperature
         {
             let sat = unshifted.saturation_at_temperature(pt.temperature_k)?;
             let v_ref = fluid.molar_mass_kg_per_mol / rho;
-            let w = 1.0 / (v_ref * v_ref);
-            num += w * (sat.liquid.molar_volume_m3_per_mol - v_ref);
-            den += w;
+            volumes.push((pt.temperature_k, sat.liquid.molar_volume_m3_per_mol, v_ref));
         }
     }
-    let shift = if den > 0.0 { num / den } else { 0.0 };
     let fit = ModelFit {
         model,
         alpha,
-        volume_shift_m3_per_mol: shift,
+        volume_shift: fit_volume_shift(&volumes, tc, unshifted.co_volume()),
     };
     let fitted = PureEos::new(&with_fit(fluid, fit.clone()), model)?;
 
@@ -286,4 +282,85 @@ pub fn fit_saturation(
         liquid_density: Deviation::from_triples(d_rows),
         iterations,
     })
+}
+
+/// The volume translation that best matches saturated-liquid volumes
+/// `(T, V_eos, V_ref)`: minimises `sum(((V_eos - c(T)) - V_ref) / V_ref)^2` by linear least
+/// squares. With four or more points spread in temperature it fits the three coefficients
+/// of [`VolumeShift`] from the lowest temperature; with fewer, or when the fitted shift would
+/// reach the co-volume `b` somewhere, the constant Peneloux shift.
+fn fit_volume_shift(volumes: &[(f64, f64, f64)], tc: f64, b: f64) -> VolumeShift {
+    let weighted = |v_ref: f64| 1.0 / (v_ref * v_ref);
+    let (mut num, mut den) = (0.0, 0.0);
+    for &(_, v_eos, v_ref) in volumes {
+        num += weighted(v_ref) * (v_eos - v_ref);
+        den += weighted(v_ref);
+    }
+    let constant = VolumeShift::constant(if den > 0.0 { num / den } else { 0.0 });
+    let from = volumes.iter().map(|v| v.0).fold(f64::INFINITY, f64::min);
+    if volumes.len() < 4 || from >= 0.999 * tc {
+        return constant;
+    }
+    // Normal equations in the basis (1, s, s^2), s the blend of `VolumeShift`.
+    let basis = |t: f64| {
+        let blend = VolumeShift {
+            constant_m3_per_mol: 0.0,
+            temperature_terms_m3_per_mol: [1.0, 0.0],
+            from_temperature_k: from,
+        };
+        let s = blend.at(t, tc).0;
+        [1.0, s, s * s]
+    };
+    let mut normal = [[0.0; 3]; 3];
+    let mut rhs = [0.0; 3];
+    for &(t, v_eos, v_ref) in volumes {
+        let phi = basis(t);
+        let w = weighted(v_ref);
+        for i in 0..3 {
+            rhs[i] += w * phi[i] * (v_eos - v_ref);
+            for j in 0..3 {
+                normal[i][j] += w * phi[i] * phi[j];
+            }
+        }
+    }
+    let Some([c0, c1, c2]) = solve3(normal, rhs) else {
+        return constant;
+    };
+    let shift = VolumeShift {
+        constant_m3_per_mol: c0,
+        temperature_terms_m3_per_mol: [c1, c2],
+        from_temperature_k: from,
+    };
+    if shift.largest_magnitude() < 0.5 * b {
+        shift
+    } else {
+        constant
+    }
+}
+
+/// Solves a 3x3 linear system by Gaussian elimination with partial pivoting; `None` when
+/// it is singular.
+fn solve3(mut a: [[f64; 3]; 3], mut r: [f64; 3]) -> Option<[f64; 3]> {
+    for col in 0..3 {
+        let pivot = (col..3).max_by(|&i, &j| a[i][col].abs().total_cmp(&a[j][col].abs()))?;
+        if a[pivot][col].abs() < 1e-300 {
+            return None;
+        }
+        a.swap(col, pivot);
+        r.swap(col, pivot);
+        for row in col + 1..3 {
+            let f = a[row][col] / a[col][col];
+            let pivot_row = a[col];
+            for (value, above) in a[row].iter_mut().zip(pivot_row).skip(col) {
+                *value -= f * above;
+            }
+            r[row] -= f * r[col];
+        }
+    }
+    let mut x = [0.0; 3];
+    for i in (0..3).rev() {
+        let tail: f64 = (i + 1..3).map(|k| a[i][k] * x[k]).sum();
+        x[i] = (r[i] - tail) / a[i][i];
+    }
+    x.iter().all(|v| v.is_finite()).then_some(x)
 }

@@ -78,8 +78,84 @@ pub struct ModelFit {
     pub model: Model,
     /// The fitted alpha function.
     pub alpha: Alpha,
-    /// Peneloux-type constant volume shift `c` (m^3/mol): reported volume = `V_eos - c`.
-    pub volume_shift_m3_per_mol: f64,
+    /// Volume translation `c(T)`: reported volume = `V_eos - c(T)`.
+    pub volume_shift: VolumeShift,
+}
+
+/// A temperature-dependent volume translation (Peneloux et al. 1982 extended in temperature):
+///
+/// `c(T) = c0 + c1 s + c2 s^2`, with `s = 10 u^3 - 15 u^4 + 6 u^5` and
+/// `u = (T - T_from) / (Tc - T_from)` clipped to [0, 1].
+///
+/// The blend `s` rises from 0 at `T_from` (the lowest fitted liquid density) to 1 at the
+/// critical temperature with zero first and second derivatives at both ends, so `c`, `dc/dT`
+/// and `d2c/dT2` are continuous everywhere and `c` is constant below `T_from` and above `Tc`.
+/// With `c1 = c2 = 0` it is the constant Peneloux shift. Translation leaves phase equilibrium
+/// unchanged; enthalpy and entropy get the consistent terms `T P dc/dT - P c` and `P dc/dT`.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct VolumeShift {
+    /// `c0`, m^3/mol.
+    pub constant_m3_per_mol: f64,
+    /// `[c1, c2]`, m^3/mol.
+    pub temperature_terms_m3_per_mol: [f64; 2],
+    /// `T_from`, K: below it the shift is `c0`. Unused when `c1 = c2 = 0`.
+    pub from_temperature_k: f64,
+}
+
+impl VolumeShift {
+    /// A constant shift `c` (m^3/mol).
+    pub fn constant(c: f64) -> VolumeShift {
+        VolumeShift {
+            constant_m3_per_mol: c,
+            ..VolumeShift::default()
+        }
+    }
+
+    /// Whether the shift varies with temperature.
+    pub fn depends_on_temperature(&self) -> bool {
+        self.temperature_terms_m3_per_mol != [0.0, 0.0]
+    }
+
+    /// `(c, dc/dT, d2c/dT2)` at `t` for a fluid with critical temperature `tc`.
+    pub fn at(&self, t: f64, tc: f64) -> (f64, f64, f64) {
+        let c0 = self.constant_m3_per_mol;
+        if !self.depends_on_temperature() {
+            return (c0, 0.0, 0.0);
+        }
+        let [c1, c2] = self.temperature_terms_m3_per_mol;
+        let span = tc - self.from_temperature_k;
+        let u = (t - self.from_temperature_k) / span;
+        if u <= 0.0 {
+            return (c0, 0.0, 0.0);
+        }
+        if u >= 1.0 {
+            return (c0 + c1 + c2, 0.0, 0.0);
+        }
+        let s = u * u * u * (10.0 + u * (-15.0 + 6.0 * u));
+        let ds = 30.0 * u * u * (1.0 - u) * (1.0 - u) / span;
+        let d2s = 60.0 * u * (1.0 - u) * (1.0 - 2.0 * u) / (span * span);
+        let dc_ds = c1 + 2.0 * c2 * s;
+        (
+            c0 + s * (c1 + c2 * s),
+            dc_ds * ds,
+            dc_ds * d2s + 2.0 * c2 * ds * ds,
+        )
+    }
+
+    /// The largest `|c(T)|` over all temperatures.
+    pub fn largest_magnitude(&self) -> f64 {
+        let c0 = self.constant_m3_per_mol;
+        let [c1, c2] = self.temperature_terms_m3_per_mol;
+        let value = |s: f64| (c0 + s * (c1 + c2 * s)).abs();
+        let mut largest = value(0.0).max(value(1.0));
+        if c2 != 0.0 {
+            let vertex = -c1 / (2.0 * c2);
+            if vertex > 0.0 && vertex < 1.0 {
+                largest = largest.max(value(vertex));
+            }
+        }
+        largest
+    }
 }
 
 /// Constants of one pure fluid, in SI units.
@@ -187,9 +263,27 @@ impl FluidConstants {
             }
         }
         for fit in &self.fits {
-            let shift = fit.volume_shift_m3_per_mol;
-            if !shift.is_finite() {
-                return Err(Error::non_finite("volume_shift_m3_per_mol"));
+            let shift = &fit.volume_shift;
+            if !shift.constant_m3_per_mol.is_finite() {
+                return Err(Error::non_finite("volume_shift.constant_m3_per_mol"));
+            }
+            if !shift
+                .temperature_terms_m3_per_mol
+                .iter()
+                .all(|c| c.is_finite())
+            {
+                return Err(Error::non_finite(
+                    "volume_shift.temperature_terms_m3_per_mol",
+                ));
+            }
+            if shift.depends_on_temperature() {
+                check_range(
+                    "volume_shift.from_temperature_k",
+                    shift.from_temperature_k,
+                    0.0,
+                    0.999 * self.critical_temperature_k,
+                    "K",
+                )?;
             }
         }
         Ok(())
@@ -215,6 +309,34 @@ pub(crate) fn check_range(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// c(T) has the derivatives it reports, is continuous with its first two derivatives at
+    /// both ends of the blend, and is constant outside it.
+    #[test]
+    fn volume_shift_is_smooth() {
+        let shift = VolumeShift {
+            constant_m3_per_mol: -3.0e-6,
+            temperature_terms_m3_per_mol: [-1.3e-5, 1.5e-5],
+            from_temperature_k: 273.16,
+        };
+        let tc = 647.096;
+        let h = 1e-3;
+        for t in [300.0, 450.0, 600.0] {
+            let (_, dc, d2c) = shift.at(t, tc);
+            let numeric_dc = (shift.at(t + h, tc).0 - shift.at(t - h, tc).0) / (2.0 * h);
+            let numeric_d2c = (shift.at(t + h, tc).1 - shift.at(t - h, tc).1) / (2.0 * h);
+            assert!((numeric_dc - dc).abs() <= 1e-6 * dc.abs() + 1e-18, "{t}");
+            assert!((numeric_d2c - d2c).abs() <= 1e-5 * d2c.abs() + 1e-18, "{t}");
+        }
+        for edge in [273.16, tc] {
+            let (below, above) = (shift.at(edge - 1e-6, tc), shift.at(edge + 1e-6, tc));
+            assert!((below.0 - above.0).abs() < 1e-15);
+            assert!(below.1.abs() < 1e-15 && above.1.abs() < 1e-15);
+            assert!(below.2.abs() < 1e-12 && above.2.abs() < 1e-12);
+        }
+        assert_eq!(shift.at(100.0, tc), (-3.0e-6, 0.0, 0.0));
+        assert_eq!(shift.at(900.0, tc).0, -3.0e-6 - 1.3e-5 + 1.5e-5);
+    }
 
     /// The antiderivatives agree with numerical quadrature of the clamped heat capacity,
     /// inside the range and across both ends.

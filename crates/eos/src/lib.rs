@@ -60,7 +60,7 @@ pub use curve::{
 pub use eos::{PhaseProperties, PureEos, ReferenceState};
 pub use error::{Error, ErrorKind};
 pub use fit::{AlphaForm, Deviation, FitReport, ReferencePoint, fit_saturation};
-pub use fluid::{FluidConstants, GAS_CONSTANT, IdealGasCp, ModelFit};
+pub use fluid::{FluidConstants, GAS_CONSTANT, IdealGasCp, ModelFit, VolumeShift};
 pub use mixture::{
     BinaryBubblePoint, Flash, Mixture, MixturePhase, MixtureState, PhaseBoundaryPoint, fit_kij,
     rachford_rice,

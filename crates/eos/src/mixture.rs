@@ -437,8 +437,9 @@ impl Mixture {
         let mut s = s_res - R * (p / P_IDEAL_ORIGIN).ln();
         for (c, &xi) in self.components.iter().zip(x) {
             let (hi, si) = c.ideal_gas_terms(t)?;
-            h += xi * (hi - c.volume_shift_m3_per_mol() * p);
-            s += xi * si;
+            let (shift, dshift, _) = c.volume_shift_at(t);
+            h += xi * (hi + (t * dshift - shift) * p);
+            s += xi * (si + p * dshift);
             if xi > 0.0 {
                 s -= R * xi * xi.ln();
             }
@@ -452,7 +453,7 @@ impl Mixture {
             .components
             .iter()
             .zip(x)
-            .map(|(c, xi)| xi * c.volume_shift_m3_per_mol())
+            .map(|(c, xi)| xi * c.volume_shift_at(t).0)
             .sum();
         let v = z * R * t / p - shift;
         let m = self.molar_mass(x);

@@ -10,7 +10,9 @@ use crate::Catalogue;
 use crate::error::CatalogueError;
 use crate::record::{AccuracyRecord, BoilingPointCheck, DeviationSummary, FitRecord, FluidRecord};
 use crate::reference::{self, MAX_REDUCED_TEMPERATURE, ReferenceData};
-use binodal_eos::{Alpha, AlphaForm, Deviation, Model, ModelFit, ReferencePoint, fit_saturation};
+use binodal_eos::{
+    Alpha, AlphaForm, Deviation, Model, ModelFit, ReferencePoint, VolumeShift, fit_saturation,
+};
 use std::fmt::Write as _;
 
 /// The models that get a fitted alpha function.
@@ -298,7 +300,8 @@ pub fn render_fits(entries: &[FitEntry]) -> String {
          # Written by `cargo run --release -p binodal-fluids --bin catalogue-tool -- fit`:\n\
          # Mathias-Copeman (1983) alpha fitted with binodal_eos::fit_saturation to the reference\n\
          # data named in each entry (vapor pressure, plus enthalpy of vaporization below 0.95 Tc\n\
-         # where the data has it); volume shift fitted to saturated-liquid densities up to 0.9 Tc\n\
+         # where the data has it); volume translation c(T) = c0 + c1 s + c2 s^2 (s a smooth blend\n\
+         # from volume_shift_from_k to Tc) fitted to saturated-liquid densities up to 0.9 Tc\n\
          # where the data has them (else 0). psat_* and liquid_density_* are the fit's own\n\
          # deviations over the points it was fitted to, in percent.\n",
     );
@@ -313,11 +316,18 @@ pub fn render_fits(entries: &[FitEntry]) -> String {
         let _ = writeln!(out, "model = {}", quote(e.fit.model.id()));
         let _ = writeln!(out, "alpha = {}", quote(form));
         let _ = writeln!(out, "parameters = [{:?}, {:?}, {:?}]", p[0], p[1], p[2]);
+        let shift = &e.fit.volume_shift;
         let _ = writeln!(
             out,
             "volume_shift_m3_per_mol = {:?}",
-            e.fit.volume_shift_m3_per_mol
+            shift.constant_m3_per_mol
         );
+        if shift.depends_on_temperature() {
+            let [c1, c2] = shift.temperature_terms_m3_per_mol;
+            let _ = writeln!(out, "volume_shift_linear_m3_per_mol = {c1:?}");
+            let _ = writeln!(out, "volume_shift_quadratic_m3_per_mol = {c2:?}");
+            let _ = writeln!(out, "volume_shift_from_k = {:?}", shift.from_temperature_k);
+        }
         let _ = writeln!(out, "data_file = {}", quote(&e.record.data_file));
         let _ = writeln!(out, "data_citation = {}", quote(&e.record.data_citation));
         let _ = writeln!(out, "data_used = {}", quote(&e.record.data_used));
@@ -514,7 +524,16 @@ pub(crate) fn read_fits(text: &str) -> Result<Vec<FitEntry>, String> {
             },
             other => return Err(format!("{fluid}: unknown alpha form `{other}`")),
         };
-        let shift = f.number("volume_shift_m3_per_mol")?;
+        let shift = VolumeShift {
+            constant_m3_per_mol: f.number("volume_shift_m3_per_mol")?,
+            temperature_terms_m3_per_mol: [
+                f.optional_number("volume_shift_linear_m3_per_mol")?
+                    .unwrap_or(0.0),
+                f.optional_number("volume_shift_quadratic_m3_per_mol")?
+                    .unwrap_or(0.0),
+            ],
+            from_temperature_k: f.optional_number("volume_shift_from_k")?.unwrap_or(0.0),
+        };
         let record = FitRecord {
             model,
             data_file: f.text("data_file")?,
@@ -531,7 +550,7 @@ pub(crate) fn read_fits(text: &str) -> Result<Vec<FitEntry>, String> {
             fit: ModelFit {
                 model,
                 alpha,
-                volume_shift_m3_per_mol: shift,
+                volume_shift: shift,
             },
             record,
         });

@@ -59,6 +59,9 @@
 //! acentric_factor = 0.25
 //! # optional: fit = [{ model = "peng-robinson-1978", alpha = "mathias-copeman-1983",
 //! #                    parameters = [0.8, -0.1, 0.2], volume_shift_m3_per_mol = 0.0 }]
+//! # a temperature-dependent translation adds volume_shift_linear_m3_per_mol,
+//! # volume_shift_quadratic_m3_per_mol and volume_shift_from_k (all three; see
+//! # binodal_eos::VolumeShift)
 //! ```
 //!
 //! Results are advisory: fluids can be flammable, toxic or at high pressure; show each

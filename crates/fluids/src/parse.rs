@@ -5,7 +5,9 @@
 
 use crate::error::{CatalogueError, Problem};
 use crate::record::{FluidRecord, SafetyClass};
-use binodal_eos::{Alpha, FluidConstants, GAS_CONSTANT, IdealGasCp, Model, ModelFit, PureEos};
+use binodal_eos::{
+    Alpha, FluidConstants, GAS_CONSTANT, IdealGasCp, Model, ModelFit, PureEos, VolumeShift,
+};
 use std::collections::BTreeMap;
 use toml::{Table, Value};
 
@@ -778,7 +780,9 @@ impl<'a> FluidReader<'a> {
         Some(cp)
     }
 
-    /// `fit = [{ model, alpha, parameters, volume_shift_m3_per_mol, source }]`.
+    /// `fit = [{ model, alpha, parameters, volume_shift_m3_per_mol, source }]`, optionally
+    /// with the temperature terms of the shift: `volume_shift_linear_m3_per_mol`,
+    /// `volume_shift_quadratic_m3_per_mol` and `volume_shift_from_k`, all three or none.
     fn fits(&mut self, tc: Option<f64>, pc: Option<f64>) -> Option<Vec<ModelFit>> {
         const FORM: &str = "[{ model = \"peng-robinson-1978\", alpha = \"mathias-copeman-1983\", \
                             parameters = [c1, c2, c3], volume_shift_m3_per_mol = 0.0 }]";
@@ -805,6 +809,9 @@ impl<'a> FluidReader<'a> {
                     "alpha",
                     "parameters",
                     "volume_shift_m3_per_mol",
+                    "volume_shift_linear_m3_per_mol",
+                    "volume_shift_quadratic_m3_per_mol",
+                    "volume_shift_from_k",
                     "source",
                 ]
                 .contains(&key.as_str())
@@ -864,22 +871,7 @@ impl<'a> FluidReader<'a> {
                     self.problem(&at("parameters"), shown, "a list of 3 numbers");
                 }
             }
-            let mut shift = 0.0;
-            if let Some(v) = t.get("volume_shift_m3_per_mol") {
-                // The engine requires |c| < b, the model's co-volume.
-                let limit = match (model, tc, pc) {
-                    (Some(m), Some(tc), Some(pc)) => m.constants().omega_b * GAS_CONSTANT * tc / pc,
-                    _ => f64::INFINITY,
-                };
-                match number(v) {
-                    Some(x) if x.is_finite() && x.abs() < limit => shift = x,
-                    _ => self.problem(
-                        &at("volume_shift_m3_per_mol"),
-                        v.to_string(),
-                        format!("a number in (-{limit:e}, {limit:e}) m^3/mol (smaller than the co-volume b)"),
-                    ),
-                }
-            }
+            let shift = self.volume_shift(t, i, model, tc, pc);
             let alpha = match form {
                 Some("twu-1991") => Alpha::Twu {
                     l: p[0],
@@ -896,11 +888,86 @@ impl<'a> FluidReader<'a> {
                 fits.push(ModelFit {
                     model,
                     alpha,
-                    volume_shift_m3_per_mol: shift,
+                    volume_shift: shift,
                 });
             }
         }
         (self.problems.len() == problems_before).then_some(fits)
+    }
+
+    /// The volume translation of fit entry `i`; its problems are recorded against the keys.
+    fn volume_shift(
+        &mut self,
+        t: &Table,
+        i: usize,
+        model: Option<Model>,
+        tc: Option<f64>,
+        pc: Option<f64>,
+    ) -> VolumeShift {
+        let at = |key: &str| format!("fit[{i}].{key}");
+        // The engine requires |c(T)| < b, the model's co-volume, at every temperature.
+        let limit = match (model, tc, pc) {
+            (Some(m), Some(tc), Some(pc)) => m.constants().omega_b * GAS_CONSTANT * tc / pc,
+            _ => f64::INFINITY,
+        };
+        let mut read = |key: &str| -> Option<f64> {
+            let v = t.get(key)?;
+            match number(v) {
+                Some(x) if x.is_finite() => Some(x),
+                _ => {
+                    self.problem(&at(key), v.to_string(), "a finite number");
+                    None
+                }
+            }
+        };
+        let constant = read("volume_shift_m3_per_mol").unwrap_or(0.0);
+        let terms = [
+            read("volume_shift_linear_m3_per_mol"),
+            read("volume_shift_quadratic_m3_per_mol"),
+            read("volume_shift_from_k"),
+        ];
+        let mut shift = VolumeShift::constant(constant);
+        match terms {
+            [Some(c1), Some(c2), Some(from)] => {
+                let top = tc.map_or(f64::INFINITY, |tc| 0.999 * tc);
+                if from > 0.0 && from < top {
+                    shift.temperature_terms_m3_per_mol = [c1, c2];
+                    shift.from_temperature_k = from;
+                } else {
+                    self.problem(
+                        &at("volume_shift_from_k"),
+                        from.to_string(),
+                        format!("a temperature in (0, {top}) K, below the critical temperature"),
+                    );
+                }
+            }
+            [None, None, None] => {}
+            _ => {
+                let shown = ["linear", "quadratic", "from"]
+                    .iter()
+                    .zip(terms)
+                    .map(|(name, v)| format!("{name} = {v:?}"))
+                    .collect::<Vec<_>>()
+                    .join(", ");
+                self.problem(
+                    &at("volume_shift_linear_m3_per_mol"),
+                    shown,
+                    "volume_shift_linear_m3_per_mol, volume_shift_quadratic_m3_per_mol and \
+                     volume_shift_from_k together, or none of them",
+                );
+            }
+        }
+        if shift.largest_magnitude() >= limit {
+            self.problem(
+                &at("volume_shift_m3_per_mol"),
+                shift.largest_magnitude().to_string(),
+                format!(
+                    "|c(T)| in (-{limit:e}, {limit:e}) m^3/mol at every temperature (smaller \
+                     than the co-volume b)"
+                ),
+            );
+        }
+        shift
     }
 }
 

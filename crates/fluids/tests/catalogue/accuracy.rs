@@ -119,19 +119,15 @@ fn fits_name_their_data_and_improve_on_the_generalized_model() {
                 fitted.mean_abs_percent,
                 base.mean_abs_percent
             );
-            let shift = fluid
-                .constants
-                .fit_for(model)
-                .unwrap()
-                .volume_shift_m3_per_mol;
+            let shift = fluid.constants.fit_for(model).unwrap().volume_shift;
             let has_density = data
                 .points
                 .iter()
                 .any(|p| p.liquid_density_kg_per_m3.is_some());
             assert_eq!(
-                shift != 0.0,
+                shift.constant_m3_per_mol != 0.0,
                 has_density,
-                "{} {model}: shift {shift}",
+                "{} {model}: shift {shift:?}",
                 fluid.id
             );
             assert_eq!(

@@ -1,6 +1,6 @@
 //! User fluid files: a valid file loads; bad files report every problem and load nothing.
 
-use binodal_eos::Model;
+use binodal_eos::{Model, VolumeShift};
 use binodal_fluids::{Catalogue, CatalogueError, Problem};
 
 /// Isopentane, which the built-in catalogue lacks, as the Harrowgate Cold Store's
@@ -74,7 +74,7 @@ fn a_valid_file_loads() {
         .constants
         .fit_for(Model::PengRobinson1978)
         .unwrap();
-    assert_eq!(fit.volume_shift_m3_per_mol, 1.0e-6);
+    assert_eq!(fit.volume_shift, VolumeShift::constant(1.0e-6));
     let eos = isopentane.eos(Model::PengRobinson1978).unwrap();
     assert!(eos.alpha_is_fitted());
     assert!(
@@ -337,4 +337,72 @@ fit = [{ model = "pr78", alpha = "soave", parameters = [0.7, 0.0, 0.0], volume_s
     let shift = find(&found, "chiller", "fit[0].volume_shift_m3_per_mol");
     assert!(shift.expected.contains("5.96"), "{shift}");
     assert_eq!(found.len(), 5, "{found:#?}");
+}
+
+/// A temperature-dependent volume translation loads from its three keys; a partial one, a
+/// start above the critical temperature, or one that reaches the co-volume are reported.
+/// (Constants as in `nested_tables_are_checked_field_by_field`; shift values invented.)
+#[test]
+fn temperature_dependent_volume_shifts_are_checked() {
+    let fluid = |fit: &str| {
+        format!(
+            r#"
+[[fluid]]
+id = "chillerloop"
+name = "Chiller loop fluid"
+molar_mass_kg_per_mol = 0.102
+critical_temperature_k = 374.2
+critical_pressure_pa = 4.06e6
+acentric_factor = 0.327
+fit = [{{ model = "pr78", alpha = "mathias-copeman-1983", parameters = [0.7, 0.0, 0.0], volume_shift_m3_per_mol = 1.0e-6, {fit} }}]
+"#
+        )
+    };
+    let good = fluid(
+        "volume_shift_linear_m3_per_mol = -2.0e-6, volume_shift_quadratic_m3_per_mol = 3.0e-6, \
+         volume_shift_from_k = 200.0",
+    );
+    let catalogue = Catalogue::builtin()
+        .with_user_toml(&good, "loop.toml")
+        .unwrap();
+    let shift = catalogue
+        .get("chillerloop")
+        .unwrap()
+        .constants
+        .fit_for(Model::PengRobinson1978)
+        .unwrap()
+        .volume_shift;
+    assert_eq!(
+        shift,
+        VolumeShift {
+            constant_m3_per_mol: 1.0e-6,
+            temperature_terms_m3_per_mol: [-2.0e-6, 3.0e-6],
+            from_temperature_k: 200.0,
+        }
+    );
+
+    let partial = fluid("volume_shift_linear_m3_per_mol = -2.0e-6");
+    let found = problems(Catalogue::builtin().with_user_toml(&partial, "loop.toml"));
+    let p = find(
+        &found,
+        "chillerloop",
+        "fit[0].volume_shift_linear_m3_per_mol",
+    );
+    assert!(p.expected.contains("together"), "{p}");
+
+    let above = fluid(
+        "volume_shift_linear_m3_per_mol = 0.0, volume_shift_quadratic_m3_per_mol = 1.0e-6, \
+         volume_shift_from_k = 400.0",
+    );
+    let found = problems(Catalogue::builtin().with_user_toml(&above, "loop.toml"));
+    find(&found, "chillerloop", "fit[0].volume_shift_from_k");
+
+    // b = 5.96e-5 m^3/mol (see above); c(Tc) = 1e-6 + 7e-5 reaches it.
+    let large = fluid(
+        "volume_shift_linear_m3_per_mol = 7.0e-5, volume_shift_quadratic_m3_per_mol = 0.0, \
+         volume_shift_from_k = 200.0",
+    );
+    let found = problems(Catalogue::builtin().with_user_toml(&large, "loop.toml"));
+    let p = find(&found, "chillerloop", "fit[0].volume_shift_m3_per_mol");
+    assert!(p.expected.contains("5.96"), "{p}");
 }
