@@ -6,7 +6,9 @@ How to run (from the repository root):
     pip install teqp==0.23.2 numpy
     python3 tools/catalogue/gerg_binary_vle.py
 
-This writes crates/eos/tests/data/propane_isobutane_gerg2008.csv: for
+This writes crates/fluids/data/reference/propane_isobutane_gerg2008.csv (the
+catalogue fits its binary interaction parameters to it; the engine tests keep a copy
+in crates/eos/tests/data/): for
 T = 240 ... 340 K and liquid propane mole fractions x = 0 (pure isobutane),
 0.1, 0.25, 0.5, 0.75, 0.9 and 1 (pure propane), the bubble pressure and the
 propane mole fraction y of the incipient vapor.
@@ -36,9 +38,9 @@ It then prints the pure endpoints against the NIST Chemistry WebBook
 saturation tables in crates/eos/tests/data/{propane,isobutane}_saturation.csv
 (interpolated in ln P against 1/T).
 
-`--second n-butane --out FILE` computes propane / n-butane instead (written
-to FILE; no WebBook table for n-butane is in the repository, so the endpoint
-comparison is skipped for it).
+`--second n-butane` computes propane / n-butane instead, written to
+crates/fluids/data/reference/propane_butane_gerg2008.csv (no WebBook table for
+n-butane is in the repository, so the endpoint comparison is skipped for it).
 """
 
 from __future__ import annotations
@@ -57,6 +59,7 @@ if teqp.__version__ != TEQP_VERSION:
 
 REPO = Path(__file__).resolve().parents[2]
 DATA = REPO / "crates" / "eos" / "tests" / "data"
+OUT = REPO / "crates" / "fluids" / "data" / "reference"
 TEMPS_K = [240.0, 260.0, 280.0, 300.0, 320.0, 340.0]
 X_PROPANE = [0.1, 0.25, 0.5, 0.75, 0.9]
 CHECK_RTOL = 1e-8
@@ -184,7 +187,8 @@ def main() -> None:
     ap.add_argument("--out", type=Path, default=None)
     args = ap.parse_args()
     heavy = args.second
-    out = args.out or DATA / f"propane_{heavy}_gerg2008.csv"
+    catalogue_id = heavy.replace("n-", "")
+    out = args.out or OUT / f"propane_{catalogue_id}_gerg2008.csv"
 
     check_reference_example()
     mix = gerg(["propane", heavy])

@@ -175,7 +175,11 @@ impl Engines {
         } else {
             fractions
         };
-        let plain = Mixture::new(components, mole, None)?;
+        // Binary interaction parameters recorded in the catalogue (fitted to reference
+        // bubble points), 0 for other pairs.
+        let ids: Vec<&str> = parts.iter().map(|(id, _)| id.as_str()).collect();
+        let kij = self.catalogue.interaction_matrix(&ids, model);
+        let plain = Mixture::new(components, mole, kij)?;
         let Some(reference) = reference else {
             return Ok((plain, None));
         };
