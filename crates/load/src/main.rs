@@ -58,6 +58,33 @@ struct Flags {
     /// Allow an address outside the loopback range.
     #[arg(long)]
     allow_remote: bool,
+    /// Process id of the server (on this machine): its CPU time is read from /proc before and
+    /// after every slice, and the report adds the server's CPU per call for each RPC and its
+    /// ratio to the health check's: the share of the health check's throughput the server
+    /// could sustain with the load coming from other machines.
+    #[arg(long, value_name = "PID")]
+    server_pid: Option<u32>,
+}
+
+/// CPU time (user + system) of process `pid` so far, seconds, from `/proc/<pid>/stat`
+/// (fields 14 and 15, in clock ticks of 1/100 s, the Linux `USER_HZ`).
+fn process_cpu_s(pid: &str) -> anyhow::Result<f64> {
+    let path = format!("/proc/{pid}/stat");
+    let text = std::fs::read_to_string(&path).with_context(|| format!("reading {path}"))?;
+    // The command name (field 2) is in parentheses and may hold spaces: split after it.
+    let after = text
+        .rsplit_once(')')
+        .map(|(_, rest)| rest)
+        .with_context(|| format!("{path}: no command field"))?;
+    let fields: Vec<&str> = after.split_whitespace().collect();
+    let ticks = |i: usize| -> anyhow::Result<f64> {
+        fields
+            .get(i)
+            .and_then(|v| v.parse::<f64>().ok())
+            .with_context(|| format!("{path}: field {} unreadable", i + 3))
+    };
+    // Fields 14 (utime) and 15 (stime) are at 11 and 12 after the command name.
+    Ok((ticks(11)? + ticks(12)?) / 100.0)
 }
 
 /// A scenario named on the command line.
@@ -134,13 +161,57 @@ async fn run(flags: Flags) -> anyhow::Result<()> {
     }
     let mut outcomes: Vec<(Scenario, Outcome)> =
         scenarios.iter().map(|&s| (s, Outcome::default())).collect();
+    let server = flags.server_pid.map(|pid| pid.to_string());
+    let mut cpu: Vec<(f64, f64)> = vec![(0.0, 0.0); outcomes.len()];
     for _ in 0..flags.rounds {
-        for (scenario, total) in &mut outcomes {
+        for ((scenario, total), (server_s, tool_s)) in outcomes.iter_mut().zip(&mut cpu) {
+            let before = (
+                server.as_deref().map(process_cpu_s).transpose()?,
+                process_cpu_s("self")?,
+            );
             total.merge(plan.drive(*scenario, in_flight, slice).await);
+            let after = (
+                server.as_deref().map(process_cpu_s).transpose()?,
+                process_cpu_s("self")?,
+            );
+            *server_s += after.0.unwrap_or(0.0) - before.0.unwrap_or(0.0);
+            *tool_s += after.1 - before.1;
         }
     }
     print_report(&outcomes);
+    print_cpu(&outcomes, &cpu, server.is_some());
     Ok(())
+}
+
+/// CPU per call of the server (when its pid was given) and of this tool, per RPC.
+fn print_cpu(outcomes: &[(Scenario, Outcome)], cpu: &[(f64, f64)], with_server: bool) {
+    let per_call = |seconds: f64, o: &Outcome| 1e6 * seconds / (o.calls.max(1) as f64);
+    let health = outcomes
+        .iter()
+        .zip(cpu)
+        .find(|((s, _), _)| *s == Scenario::Health)
+        .map(|((_, o), &(server_s, _))| per_call(server_s, o));
+    println!();
+    println!(
+        "{:<12} {:>18} {:>22} {:>16}",
+        "rpc", "server CPU us/call", "health/rpc server CPU", "tool CPU us/call"
+    );
+    for ((scenario, o), &(server_s, tool_s)) in outcomes.iter().zip(cpu) {
+        let (server, ratio) = match (with_server, health) {
+            (true, Some(h)) => (
+                format!("{:.1}", per_call(server_s, o)),
+                format!("{:.3}", h / per_call(server_s, o)),
+            ),
+            _ => ("-".into(), "-".into()),
+        };
+        println!(
+            "{:<12} {:>18} {:>22} {:>16.1}",
+            scenario.name(),
+            server,
+            ratio,
+            per_call(tool_s, o)
+        );
+    }
 }
 
 fn print_report(outcomes: &[(Scenario, Outcome)]) {
