@@ -197,7 +197,7 @@ impl PureEos {
             FugacityGap { eos: self, t },
             lo.ln(),
             hi.ln(),
-            1e-11,
+            1e-7,
             "vapor pressure",
         )?;
         // Newton polish in ln P: dF/d ln P = Z_L - Z_V.
