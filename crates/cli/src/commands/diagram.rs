@@ -717,47 +717,27 @@ fn plot<DB: DrawingBackend>(
                 0.08,
             );
             let x_bounds = (x_lo, x_hi);
-            let mut chart = ChartBuilder::on(&body)
-                .caption(&picture.title, ("sans-serif", 24))
-                .margin(16)
-                .x_label_area_size(48)
-                .y_label_area_size(80)
-                .build_cartesian_2d(x_lo..x_hi, y_range.log_scale())
-                .map_err(err)?;
-            chart
-                .configure_mesh()
-                .x_desc(format!(
-                    "temperature, {}",
-                    unit_label(Q::Temperature, units)
-                ))
-                .y_desc(y_desc)
-                .draw()
+            let x_desc = format!("temperature, {}", unit_label(Q::Temperature, units));
+            let mut chart = chart_on(&body, &picture.title, x_lo..x_hi, y_range, x_desc, &y_desc)
                 .map_err(err)?;
             let liquid: Vec<(f64, f64)> = picture
                 .samples
                 .iter()
                 .map(|s| (t(s.liquid_t), p(s.liquid_p)))
                 .collect();
-            chart
-                .draw_series(LineSeries::new(liquid, curve_style))
-                .map_err(err)?
-                .label(if picture.blend {
-                    "bubble curve"
-                } else {
-                    "saturation curve"
-                })
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], curve_style));
+            let label = if picture.blend {
+                "bubble curve"
+            } else {
+                "saturation curve"
+            };
+            draw_line(&mut chart, liquid, label, curve_style).map_err(err)?;
             if picture.blend {
                 let vapor: Vec<(f64, f64)> = picture
                     .samples
                     .iter()
                     .map(|s| (t(s.vapor_t), p(s.vapor_p)))
                     .collect();
-                chart
-                    .draw_series(LineSeries::new(vapor, dew_style))
-                    .map_err(err)?
-                    .label("dew curve")
-                    .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], dew_style));
+                draw_line(&mut chart, vapor, "dew curve", dew_style).map_err(err)?;
             }
             solid_drawn |= draw_estimate(
                 &mut chart,
@@ -796,13 +776,7 @@ fn plot<DB: DrawingBackend>(
                 .map(|m| ((t(m.t), p(m.p)), m.label.clone()))
                 .collect();
             draw_marks(&mut chart, marks, mark_style).map_err(err)?;
-            chart
-                .configure_series_labels()
-                .position(SeriesLabelPosition::UpperLeft)
-                .background_style(WHITE.mix(0.85))
-                .border_style(BLACK)
-                .draw()
-                .map_err(err)?;
+            draw_legend(&mut chart, SeriesLabelPosition::UpperLeft).map_err(err)?;
         }
         DiagramKind::Ph => {
             let h = |si: f64| shown(Q::SpecificEnergy, si, units);
@@ -817,21 +791,11 @@ fn plot<DB: DrawingBackend>(
                 0.06,
                 0.15,
             );
-            let mut chart = ChartBuilder::on(&body)
-                .caption(&picture.title, ("sans-serif", 24))
-                .margin(16)
-                .x_label_area_size(48)
-                .y_label_area_size(80)
-                .build_cartesian_2d(x_lo..x_hi, y_range.log_scale())
-                .map_err(err)?;
-            chart
-                .configure_mesh()
-                .x_desc(format!(
-                    "specific enthalpy, {}",
-                    unit_label(Q::SpecificEnergy, units)
-                ))
-                .y_desc(y_desc)
-                .draw()
+            let x_desc = format!(
+                "specific enthalpy, {}",
+                unit_label(Q::SpecificEnergy, units)
+            );
+            let mut chart = chart_on(&body, &picture.title, x_lo..x_hi, y_range, x_desc, &y_desc)
                 .map_err(err)?;
             let liquid: Vec<(f64, f64)> = picture
                 .samples
@@ -843,37 +807,20 @@ fn plot<DB: DrawingBackend>(
                 .iter()
                 .filter_map(|s| s.vapor_h.map(|hv| (h(hv), p(s.vapor_p))))
                 .collect();
-            chart
-                .draw_series(LineSeries::new(liquid, curve_style))
-                .map_err(err)?
-                .label(if picture.blend {
-                    "saturated liquid (bubble)"
-                } else {
-                    "saturated liquid"
-                })
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], curve_style));
-            chart
-                .draw_series(LineSeries::new(vapor, dew_style))
-                .map_err(err)?
-                .label(if picture.blend {
-                    "saturated vapor (dew)"
-                } else {
-                    "saturated vapor"
-                })
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], dew_style));
+            let (liquid_label, vapor_label) = if picture.blend {
+                ("saturated liquid (bubble)", "saturated vapor (dew)")
+            } else {
+                ("saturated liquid", "saturated vapor")
+            };
+            draw_line(&mut chart, liquid, liquid_label, curve_style).map_err(err)?;
+            draw_line(&mut chart, vapor, vapor_label, dew_style).map_err(err)?;
             let marks: Vec<((f64, f64), String)> = picture
                 .points
                 .iter()
                 .filter_map(|m| m.h.map(|hm| ((h(hm), p(m.p)), m.label.clone())))
                 .collect();
             draw_marks(&mut chart, marks, mark_style).map_err(err)?;
-            chart
-                .configure_series_labels()
-                .position(SeriesLabelPosition::LowerMiddle)
-                .background_style(WHITE.mix(0.85))
-                .border_style(BLACK)
-                .draw()
-                .map_err(err)?;
+            draw_legend(&mut chart, SeriesLabelPosition::LowerMiddle).map_err(err)?;
         }
     }
     let footnote = match picture.kind {
@@ -891,6 +838,68 @@ fn plot<DB: DrawingBackend>(
         ))
         .map_err(err)?;
     Ok(solid_drawn)
+}
+
+/// A chart with a linear x axis and pressure on a log scale.
+type LogPressureChart<'a, DB> =
+    ChartContext<'a, DB, Cartesian2d<plotters::coord::types::RangedCoordf64, LogCoord<f64>>>;
+
+/// The diagram's chart: title, axes with their descriptions, pressure on a log scale.
+fn chart_on<'a, DB: DrawingBackend>(
+    body: &'a DrawingArea<DB, Shift>,
+    title: &str,
+    x_range: std::ops::Range<f64>,
+    y_range: std::ops::Range<f64>,
+    x_desc: String,
+    y_desc: &str,
+) -> Result<LogPressureChart<'a, DB>, DrawingAreaErrorKind<DB::ErrorType>> {
+    let mut chart = ChartBuilder::on(body)
+        .caption(title, ("sans-serif", 24))
+        .margin(16)
+        .x_label_area_size(48)
+        .y_label_area_size(80)
+        .build_cartesian_2d(x_range, y_range.log_scale())?;
+    chart
+        .configure_mesh()
+        .x_desc(x_desc)
+        .y_desc(y_desc)
+        .draw()?;
+    Ok(chart)
+}
+
+/// One labelled line of the diagram.
+fn draw_line<DB: DrawingBackend, X, Y>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<X, Y>>,
+    points: Vec<(f64, f64)>,
+    label: &str,
+    style: ShapeStyle,
+) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    chart
+        .draw_series(LineSeries::new(points, style))?
+        .label(label)
+        .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], style));
+    Ok(())
+}
+
+/// The legend box at `position`.
+fn draw_legend<'a, DB: DrawingBackend + 'a, X, Y>(
+    chart: &mut ChartContext<'a, DB, Cartesian2d<X, Y>>,
+    position: SeriesLabelPosition,
+) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    chart
+        .configure_series_labels()
+        .position(position)
+        .background_style(WHITE.mix(0.85))
+        .border_style(BLACK)
+        .draw()
 }
 
 /// Draws the operating points: a filled circle and the point as typed.
