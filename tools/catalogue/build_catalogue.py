@@ -13,6 +13,17 @@ comes from. It pulls values from:
 * a few values recalled from reference-equation papers, marked `from memory`
   in their source text.
 
+Triple-point pressures: a tabulated value where there is one (Staveley 1981,
+the NIST WebBook, or the lowest row of a VDI Heat Atlas saturation table when
+that row is at the triple point); else DERIVED from the first published
+vapor-pressure correlation (in make_reference_points.py's order of preference)
+whose listed range covers the triple-point temperature, or misses it by at
+most PSAT_EXTRAPOLATION_MAX_K (the source text then says by how much),
+evaluated at that temperature. A value with no source is left out, and the
+fluid's entry gets a comment naming the sources searched (see gap_comment).
+The library's 'HEOS' constants table (computed with thermophysical-property
+software from reference equations of state) is not used as a source.
+
 Run from the repository root:
 
     pip install chemicals==1.5.2 numpy
@@ -28,6 +39,7 @@ from __future__ import annotations
 import csv
 import math
 import sys
+import textwrap
 from pathlib import Path
 
 import chemicals
@@ -37,6 +49,7 @@ from chemicals.identifiers import search_chemical
 sys.dont_write_bytecode = True  # keep tools/catalogue free of __pycache__
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 import fit_ideal_gas_cp  # noqa: E402
+import make_reference_points as refpoints  # noqa: E402
 
 CHEMICALS_VERSION = "1.5.2"
 if chemicals.__version__ != CHEMICALS_VERSION:
@@ -572,7 +585,20 @@ def triple_temperature(fl: dict) -> tuple[float, str]:
     raise SystemExit(f"{fl['id']}: no triple point")
 
 
-def triple_pressure(fl: dict, tt: float, tb) -> tuple[float, str] | None:
+# A VDI Heat Atlas table's lowest row counts as the triple point when it is this close to the
+# catalogue's triple-point temperature (the tables start at the triple point: R-22 115.73 K,
+# R-125 172.52 K, R-134a 169.85 K, methanol 175.61 K, benzene 278.7 K).
+VDI_TRIPLE_ROW_TOLERANCE_K = 0.05
+# Largest extrapolation of a vapor-pressure correlation below its listed range for a derived
+# triple-point pressure.
+PSAT_EXTRAPOLATION_MAX_K = 1.0
+TABULATED_PT_SEARCHED = (
+    "Staveley et al. 1981 triple points, NIST WebBook phase-change data and the VDI Heat Atlas "
+    f"saturation tables, as tabulated in the chemicals Python library {CHEMICALS_VERSION}"
+)
+
+
+def triple_pressure(fl: dict, tt: tuple[float, str], tb) -> tuple[float, str] | None:
     if "pt" in fl:
         return fl["pt"]
     cas = fl["cas"]
@@ -583,10 +609,43 @@ def triple_pressure(fl: dict, tt: float, tb) -> tuple[float, str] | None:
         p = triple.Pt(cas, method="WEBBOOK")
         # Reject implausible entries: below the normal boiling point the
         # triple-point pressure must be below one atmosphere.
-        if tb is not None and tt < tb[0] and not p < 101325.0:
-            return None
-        return (sig(p, 5), "nist-webbook-phase")
-    return None
+        if not (tb is not None and tt[0] < tb[0] and not p < 101325.0):
+            return (sig(p, 5), "nist-webbook-phase")
+    table = refpoints.vdi_table(cas)
+    if table is not None and abs(table["T"][0] - tt[0]) <= VDI_TRIPLE_ROW_TOLERANCE_K:
+        key = f"vdi-table-triple-{fl['id']}"
+        SOURCES[key] = (
+            f"{refpoints.VDI_SOURCE}, saturated-state property table for {table['Name']}: vapor "
+            f"pressure in its lowest row, at {table['T'][0]} K, the triple point (the catalogue "
+            f"triple-point temperature, {tt[0]} K, is {abs(table['T'][0] - tt[0]):.2f} K away), "
+            f"{LIB}"
+        )
+        return (sig(table["P"][0], 5), key)
+    usable = [c for c in refpoints.psat_correlations(cas)
+              if c[1] - PSAT_EXTRAPOLATION_MAX_K <= tt[0] <= c[2]]
+    if not usable:
+        return None
+    f_p, lo, hi, form, src, rng, short = usable[0]
+    where = ("inside the range listed with the coefficients" if tt[0] >= lo else
+             f"an extrapolation {lo - tt[0]:.2f} K below the lowest temperature listed with "
+             "the coefficients")
+    others = [float(c[0](tt[0])) for c in usable[1:]]
+    if not others:
+        spread = "no other correlation in the library reaches this temperature"
+    elif len(others) == 1:
+        spread = (f"the one other correlation in the library that reaches this temperature "
+                  f"gives {sig(others[0], 3)} Pa there")
+    else:
+        spread = (f"the library's other correlations that reach this temperature give "
+                  f"{sig(min(others), 3)} to {sig(max(others), 3)} Pa there")
+    key = f"psat-at-triple-{fl['id']}"
+    SOURCES[key] = (
+        f"DERIVED: {short}, {form}, with the coefficients of {src}, evaluated at the "
+        f"catalogue triple-point temperature T = {tt[0]} K (source key {tt[1]}): {where} "
+        f"({rng}); {refpoints.EVAL}. No tabulated triple-point pressure was found "
+        f"({TABULATED_PT_SEARCHED}); {spread}"
+    )
+    return (sig(float(f_p(tt[0])), 4), key)
 
 
 def heat_of_fusion(fl: dict) -> tuple[float, str] | None:
@@ -596,7 +655,7 @@ def heat_of_fusion(fl: dict) -> tuple[float, str] | None:
     return None
 
 
-def hvap_at_nbp(fl: dict, comp: dict) -> tuple[float, str] | None:
+def hvap_at_nbp(fl: dict, comp: dict, tb, molar_mass: float) -> tuple[float, str] | None:
     cas = fl["cas"]
     table = phase_change.Hvap_data_CRC
     if cas in table.index and not math.isnan(table.loc[cas, "HvapTb"]):
@@ -604,7 +663,52 @@ def hvap_at_nbp(fl: dict, comp: dict) -> tuple[float, str] | None:
     label = COMPILATION_LABEL.get(fl["id"])
     if label and comp[label]["dHvap_at_Tb_mean_kJ_mol"]:
         return (sig(float(comp[label]["dHvap_at_Tb_mean_kJ_mol"]) * 1000.0, 5), "crit-compilation")
+    vdi = refpoints.vdi_table(cas)
+    if vdi is not None:
+        # A row of the VDI Heat Atlas table at the catalogue's normal boiling point.
+        for t, p, h in zip(vdi["T"], vdi["P"], refpoints.vdi_hvap_kj_per_kg(vdi)):
+            if h is not None and abs(t - tb[0]) <= 0.005 and abs(p / 101325.0 - 1.0) < 1e-3:
+                key = f"vdi-table-hvap-nbp-{fl['id']}"
+                SOURCES[key] = (
+                    f"{refpoints.VDI_SOURCE}, saturated-state property table for {vdi['Name']}: "
+                    f"enthalpy of vaporization {h} kJ/kg in its row at {t} K and {p:.0f} Pa (the "
+                    f"normal boiling point), times the catalogue molar mass {molar_mass} kg/mol; "
+                    f"{LIB} (the kJ/kg value recovered as described in "
+                    f"crates/fluids/data/reference/{fl['id']}_vdi_saturation.csv)"
+                )
+                return (sig(h * molar_mass * 1000.0, 5), key)
     return None
+
+
+def gap_comment(fl: dict, pt, hfus, hvap, tb) -> list[str]:
+    """Comment lines naming the sources searched for each optional value left out."""
+    notes = []
+    if pt is None:
+        notes.append(
+            "triple_point_pressure_pa: none in Staveley 1981, the NIST WebBook or the VDI Heat "
+            "Atlas tables, and no published vapor-pressure correlation (VDI PPDS, Poling 2001, "
+            "McGarry 1983, Perry's Table 2-8) to derive one from. (The library's 'HEOS' constants, "
+            "computed with property software from reference equations of state, are not used.)"
+        )
+    if hfus is None:
+        notes.append(
+            "heat_of_fusion_j_per_mol: none in the CRC Handbook table, the NIST WebBook or "
+            "Wikidata (the library has only a Joback group-contribution estimate, not used)."
+        )
+    if hvap is None and tb is not None:
+        notes.append(
+            "enthalpy_of_vaporization_at_nbp_j_per_mol: none in the CRC Handbook table, the "
+            "handbook compilation (critical_constants_compilation.csv) or a VDI Heat Atlas table "
+            "row at the normal boiling point."
+        )
+    if not notes:
+        return []
+    lines = [f"Values left out for {fl['id']}: no published source in the chemicals Python",
+             f"library {CHEMICALS_VERSION}. Searched there:"]
+    for note in notes:
+        wrapped = textwrap.wrap(note, width=94, break_on_hyphens=False)
+        lines += ["- " + wrapped[0]] + ["  " + w for w in wrapped[1:]]
+    return lines
 
 
 def ideal_gas_cp(fl: dict, fits: dict) -> dict:
@@ -700,9 +804,9 @@ def build() -> None:
         omega = acentric_factor(fl)
         tb = boiling_point(fl)
         tt = triple_temperature(fl)
-        pt = triple_pressure(fl, tt[0], tb)
+        pt = triple_pressure(fl, tt, tb)
         hfus = heat_of_fusion(fl)
-        hvap = hvap_at_nbp(fl, comp) if tb is not None else None
+        hvap = hvap_at_nbp(fl, comp, tb, molar_mass[0]) if tb is not None else None
         cp = ideal_gas_cp(fl, fits)
 
         lines = []
@@ -710,6 +814,7 @@ def build() -> None:
             lines += ["# " + c for c in fl["comment"].splitlines()]
         if cp.get("note"):
             lines.append(f"# ideal_gas_cp: {cp['note']}.")
+        lines += ["# " + c for c in gap_comment(fl, pt, hfus, hvap, tb)]
         lines.append("[[fluid]]")
         lines.append(f"id = {toml_str(fid)}")
         lines.append(f"name = {toml_str(fl['name'])}")

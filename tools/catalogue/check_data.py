@@ -176,7 +176,13 @@ def main() -> int:
     ids: dict[str, str] = {}
     names: dict[str, str] = {}
     n_fluids = 0
-    files = sorted(DATA_DIR.glob("*.toml"))
+    # The fluid files: the data directory also holds blends.toml and the generated fits,
+    # accuracy and interactions files, which have no [[fluid]] tables.
+    files = []
+    for path in sorted(DATA_DIR.glob("*.toml")):
+        with path.open("rb") as fh:
+            if "fluid" in tomllib.load(fh):
+                files.append(path)
     if not files:
         print(f"no TOML files in {DATA_DIR}")
         return 1

@@ -933,11 +933,16 @@ pub fn decimals(quantity: Quantity, system: UnitSystem) -> usize {
 }
 
 /// Formats an SI value of `quantity` in `system` as `"<value> <unit>"`, e.g. `"25.00 °C"`.
-/// A value that rounds to zero is shown without a minus sign.
+/// A value that rounds to zero is shown without a minus sign; an absolute pressure too small for
+/// the fixed decimals (a triple-point pressure of a fraction of a pascal) is shown with four
+/// significant digits instead, e.g. `"1.687e-9 bar (abs)"`, never as a zero.
 pub fn format_quantity(quantity: Quantity, si_value: f64, system: UnitSystem) -> String {
     let (value, label) = convert(quantity, si_value, system);
     let places = decimals(quantity, system);
     let half_step = 0.5 * 10f64.powi(-(places as i32));
+    if quantity == Quantity::Pressure && value > 0.0 && value < half_step {
+        return format!("{value:.3e} {label}");
+    }
     let value = if value.abs() < half_step { 0.0 } else { value };
     format!("{value:.places$} {label}")
 }
@@ -986,6 +991,22 @@ mod tests {
     const PSI_LITERAL: f64 = 6_894.757_293_168_361; // NIST SP 811 (2008) B.9: lb * g_n / in^2, exact inputs
     const MMHG_LITERAL: f64 = 133.322_387_415; // 13 595.1 kg/m3 * 9.80665 m/s2 * 1 mm, conventional (NIST SP 811 B.9)
     const INHG_LITERAL: f64 = 3_386.388_640_341; // 13 595.1 kg/m3 * 9.80665 m/s2 * 25.4 mm, conventional (NIST SP 811 B.9)
+
+    /// Propane's triple-point pressure, 1.6869e-4 Pa (the catalogue's value, Staveley 1981),
+    /// is shown with significant digits, not as zero; ordinary pressures keep fixed decimals.
+    #[test]
+    fn tiny_absolute_pressures_are_not_shown_as_zero() {
+        let shown = format_quantity(Quantity::Pressure, 1.6869e-4, UnitSystem::Metric);
+        assert_eq!(shown, "1.687e-9 bar (abs)");
+        assert_eq!(
+            format_quantity(Quantity::Pressure, 820_000.0, UnitSystem::Metric),
+            "8.2000 bar (abs)"
+        );
+        assert_eq!(
+            format_quantity(Quantity::TemperatureDifference, -1e-4, UnitSystem::Metric),
+            "0.00 K"
+        );
+    }
 
     fn assert_close(actual: f64, expected: f64, tolerance: f64, what: &str, source: &str) {
         assert!(

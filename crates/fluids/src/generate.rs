@@ -199,22 +199,37 @@ pub fn fit_all(
 }
 
 /// The accuracy of `fluid` under `model` (with its catalogue fit where one exists)
-/// against `data`, and the normal-boiling-point check.
+/// against `data` (vapor pressure) and `enthalpy` (enthalpy of vaporization, up to
+/// [`HVAP_MAX_REDUCED_TEMPERATURE`] Tc; usually the same set, see
+/// [`reference::enthalpy_data`]), and the normal-boiling-point check.
 pub fn accuracy_of(
     fluid: &FluidRecord,
     data: Option<&ReferenceData>,
+    enthalpy: Option<&ReferenceData>,
     model: Model,
 ) -> Result<AccuracyRecord, binodal_eos::Error> {
     let eos = fluid.eos(model)?;
     let tc = fluid.constants.critical_temperature_k;
+    let same_set = matches!((data, enthalpy), (Some(d), Some(h)) if d.file == h.file);
     let (mut p_rows, mut h_rows) = (Vec::new(), Vec::new());
     for pt in data.map_or(&[][..], |d| &d.points) {
         let sat = eos.saturation_at_temperature(pt.temperature_k)?;
         p_rows.push((pt.temperature_k, sat.pressure_pa, pt.pressure_pa));
         if let Some(h) = pt.enthalpy_of_vaporization_j_per_mol
+            && same_set
             && pt.temperature_k / tc <= HVAP_MAX_REDUCED_TEMPERATURE
         {
             h_rows.push((pt.temperature_k, sat.enthalpy_of_vaporization_j_per_mol, h));
+        }
+    }
+    if !same_set {
+        for pt in enthalpy.map_or(&[][..], |d| &d.points) {
+            if let Some(h) = pt.enthalpy_of_vaporization_j_per_mol
+                && pt.temperature_k / tc <= HVAP_MAX_REDUCED_TEMPERATURE
+            {
+                let sat = eos.saturation_at_temperature(pt.temperature_k)?;
+                h_rows.push((pt.temperature_k, sat.enthalpy_of_vaporization_j_per_mol, h));
+            }
         }
     }
     let temps = |rows: &[(f64, f64, f64)]| rows.iter().map(|r| r.0).collect::<Vec<_>>();
@@ -238,9 +253,13 @@ pub fn accuracy_of(
     let nbp_source = fluid
         .citation("normal_boiling_point_k")
         .unwrap_or("not in the catalogue");
-    let checked_against = match data {
-        Some(d) => d.citation.clone(),
-        None => format!(
+    let checked_against = match (data, enthalpy) {
+        (Some(d), Some(h)) if !same_set => format!(
+            "{}; enthalpy of vaporization checked against {}",
+            d.citation, h.citation
+        ),
+        (Some(d), _) => d.citation.clone(),
+        (None, _) => format!(
             "no reference vapor-pressure data in crates/fluids/data/reference/; only the normal \
              boiling point was checked, against the catalogue value ({nbp_source})"
         ),
@@ -260,14 +279,16 @@ pub fn accuracy_all(catalogue: &Catalogue) -> Result<Vec<AccuracyEntry>, Generat
     let mut out = Vec::new();
     for fluid in catalogue.fluids().iter().filter(|f| !f.user_supplied) {
         let data = reference::reference_data(fluid)?;
+        let enthalpy = reference::enthalpy_data(fluid)?;
         for model in Model::ALL {
-            let record = accuracy_of(fluid, data.as_ref(), model).map_err(|source| {
-                GenerateError::Engine {
-                    fluid: fluid.id.clone(),
-                    model,
-                    source,
-                }
-            })?;
+            let record =
+                accuracy_of(fluid, data.as_ref(), enthalpy.as_ref(), model).map_err(|source| {
+                    GenerateError::Engine {
+                        fluid: fluid.id.clone(),
+                        model,
+                        source,
+                    }
+                })?;
             out.push(AccuracyEntry {
                 fluid: fluid.id.clone(),
                 record,
@@ -350,8 +371,10 @@ pub fn render_accuracy(entries: &[AccuracyEntry]) -> String {
          # and checked by `cargo test -p binodal-fluids` (the test recomputes it). Deviations are\n\
          # absolute relative deviations in percent of model from reference, over the reference\n\
          # points from the triple point (or the data's lowest temperature) to 0.99 Tc; hvap only\n\
-         # up to 0.95 Tc. nbp_*: model saturation temperature at 101325 Pa against the catalogue\n\
-         # normal boiling point, K. Results are advisory; see the catalogue's cautions.\n",
+         # up to 0.95 Tc, against the first of the fluid's reference sets that has enthalpies\n\
+         # (checked_against names it where it is not the vapor-pressure set). nbp_*: model\n\
+         # saturation temperature at 101325 Pa against the catalogue normal boiling point, K.\n\
+         # Results are advisory; see the catalogue's cautions.\n",
     );
     for e in entries {
         let r = &e.record;

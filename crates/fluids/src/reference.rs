@@ -1,7 +1,8 @@
 //! Reference saturation data compiled into the crate: the NIST Chemistry WebBook (SRD 69)
-//! tables of `data/reference/*_saturation.csv` and `r134a_saturated_liquid.csv`, and the
-//! check points from published correlations in `data/reference/<id>_vapor_pressure.csv`.
-//! Each file's `#` header names its source; see `tools/catalogue/make_reference_points.py`.
+//! tables of `data/reference/*_saturation.csv` and `r134a_saturated_liquid.csv`, the VDI Heat
+//! Atlas tables of `data/reference/<id>_vdi_saturation.csv`, and the check points from
+//! published correlations in `data/reference/<id>_vapor_pressure.csv`. Each file's `#` header
+//! names its source; see `tools/catalogue/make_reference_points.py`.
 //!
 //! The fits of `data/fits.toml` and the figures of `data/accuracy.toml` are computed against
 //! these points by `catalogue-tool` (see the crate documentation).
@@ -17,8 +18,8 @@ pub const MAX_REDUCED_TEMPERATURE: f64 = 0.99;
 /// What kind of reference a data set is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum ReferenceKind {
-    /// A saturation table from a reference equation of state (NIST Chemistry WebBook SRD 69),
-    /// with saturated-liquid densities.
+    /// A tabulated saturation table (NIST Chemistry WebBook SRD 69, or the VDI Heat Atlas
+    /// saturated-state tables), with saturated-liquid densities.
     Table,
     /// Points evaluated from published vapor-pressure and enthalpy-of-vaporization
     /// correlations (no densities).
@@ -65,12 +66,16 @@ macro_rules! embed {
     };
 }
 
-const TABLES: [Embedded; 5] = [
+/// Saturation tables, in order of preference for a fluid: R-134a's WebBook table (374 rows)
+/// comes before its VDI Heat Atlas table (10 rows, which adds enthalpies of vaporization).
+const TABLES: [Embedded; 7] = [
     embed!("water", "water_saturation.csv", true),
     embed!("propane", "propane_saturation.csv"),
     embed!("isobutane", "isobutane_saturation.csv"),
     embed!("nitrogen", "nitrogen_saturation.csv"),
     embed!("r134a", "r134a_saturated_liquid.csv"),
+    embed!("r134a", "r134a_vdi_saturation.csv"),
+    embed!("r125", "r125_vdi_saturation.csv"),
 ];
 
 const CORRELATIONS: [Embedded; 32] = [
@@ -123,10 +128,22 @@ pub fn reference_sets(fluid: &FluidRecord) -> Result<Vec<ReferenceData>, Catalog
         .collect()
 }
 
-/// The reference data the fits and accuracy records use for `fluid`: the WebBook table
-/// where there is one, else the correlation points, else none.
+/// The reference data the fits and accuracy records use for `fluid`: the first saturation
+/// table where there is one (the WebBook table before the VDI Heat Atlas table), else the
+/// correlation points, else none.
 pub fn reference_data(fluid: &FluidRecord) -> Result<Option<ReferenceData>, CatalogueError> {
     Ok(reference_sets(fluid)?.into_iter().next())
+}
+
+/// The data the accuracy records compare enthalpies of vaporization with: the set of
+/// [`reference_data`] where it has any, else the first other set of the fluid that has
+/// them (R-134a: its WebBook table has none, its VDI Heat Atlas table has), else none.
+pub fn enthalpy_data(fluid: &FluidRecord) -> Result<Option<ReferenceData>, CatalogueError> {
+    Ok(reference_sets(fluid)?.into_iter().find(|d| {
+        d.points
+            .iter()
+            .any(|p| p.enthalpy_of_vaporization_j_per_mol.is_some())
+    }))
 }
 
 /// Column positions and unit factors of one file.

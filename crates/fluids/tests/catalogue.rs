@@ -7,6 +7,8 @@ mod accuracy;
 mod blends;
 #[path = "catalogue/consistency.rs"]
 mod consistency;
+#[path = "catalogue/gaps.rs"]
+mod gaps;
 #[path = "catalogue/interactions.rs"]
 mod interactions;
 #[path = "catalogue/names.rs"]

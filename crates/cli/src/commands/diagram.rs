@@ -336,13 +336,21 @@ pub async fn run(
             },
             Field::quantity(
                 "critical_temperature_k",
-                "critical temperature",
+                if picture.blend {
+                    "pseudo-critical temperature (Kay's rule)"
+                } else {
+                    "critical temperature"
+                },
                 Quantity::Temperature,
                 critical.0,
             ),
             Field::quantity(
                 "critical_pressure_pa",
-                "critical pressure",
+                if picture.blend {
+                    "pseudo-critical pressure (Kay's rule)"
+                } else {
+                    "critical pressure"
+                },
                 Quantity::Pressure,
                 critical.1,
             ),
@@ -757,7 +765,11 @@ fn plot<DB: DrawingBackend>(
             chart
                 .draw_series(std::iter::once(Circle::new(critical, 6, RED.filled())))
                 .map_err(err)?
-                .label("critical point")
+                .label(if picture.blend {
+                    "pseudo-critical point (Kay's rule)"
+                } else {
+                    "critical point"
+                })
                 .legend(|(x, y)| Circle::new((x + 10, y), 5, RED.filled()));
             if let Some((tt, pt)) = picture.triple {
                 chart
@@ -932,8 +944,9 @@ mod tests {
 
     #[test]
     fn curve_temperatures_start_at_the_triple_point_and_stay_below_critical() {
-        // R-134a triple and critical temperatures, NIST Chemistry WebBook (SRD 69) saturation
-        // table: 169.86 K and 374.21 K (crates/fluids/data/reference/r134a_saturated_liquid.csv).
+        // R-134a triple and critical temperatures of the tabulated saturation data matching the
+        // NIST Chemistry WebBook export: 169.86 K and 374.21 K
+        // (crates/fluids/data/reference/r134a_saturated_liquid.csv).
         let temperatures = curve_temperatures(169.86, 374.21, CURVE_SAMPLES);
         assert_eq!(temperatures.len(), CURVE_SAMPLES);
         assert!((temperatures[0] - 169.86).abs() < 1e-12);

@@ -77,8 +77,19 @@ fn non_empty(text: &str) -> Option<String> {
     (!text.is_empty()).then(|| text.to_string())
 }
 
+/// A blend's "critical" constants are the pseudo-critical point of Kay's rule (mole-fraction
+/// averages of the components' critical constants), not the mixture's true critical point.
+fn critical_label(blend: bool, label: &'static str) -> &'static str {
+    match (blend, label) {
+        (true, "critical temperature") => "pseudo-critical temperature (Kay's rule)",
+        (true, "critical pressure") => "pseudo-critical pressure (Kay's rule)",
+        _ => label,
+    }
+}
+
 fn fields(fluid: &FluidDescription) -> Vec<Field> {
     use Quantity as Q;
+    let blend = !fluid.blend_components.is_empty();
     let components: Vec<String> = fluid
         .blend_components
         .iter()
@@ -122,13 +133,13 @@ fn fields(fluid: &FluidDescription) -> Vec<Field> {
         ),
         Field::quantity(
             "critical_temperature_k",
-            "critical temperature",
+            critical_label(blend, "critical temperature"),
             Q::Temperature,
             fluid.critical_temperature_k,
         ),
         Field::quantity(
             "critical_pressure_pa",
-            "critical pressure",
+            critical_label(blend, "critical pressure"),
             Q::Pressure,
             fluid.critical_pressure_pa,
         ),

@@ -188,7 +188,7 @@ pub fn log_pressure_slope(lower: (f64, f64), upper: (f64, f64)) -> f64 {
     (upper.1.ln() - lower.1.ln()) / (upper.0 - lower.0)
 }
 
-/// Half of the last digit of the NIST table's temperatures (given to 0.01 K), K.
+/// Half of the last digit of the R-134a table's temperatures (given to 0.01 K), K.
 pub const TABLE_TEMPERATURE_ROUNDING_K: f64 = 0.005;
 
 /// The tolerance on a saturation temperature at a given pressure, K: the model's recorded
@@ -218,4 +218,26 @@ pub fn assert_close(actual: f64, expected: f64, tolerance: f64, what: &str, sour
         (actual - expected).abs() <= tolerance,
         "{what}: got {actual}, expected {expected} ± {tolerance} ({source})"
     );
+}
+
+/// The data rows of a reference table kept in `crates/fluids/data/reference/` (the published
+/// values the catalogue's recorded deviations were measured against), each row as numbers in
+/// the order of the table's header. Lines starting with `#` (the table's provenance) and the
+/// header line are skipped. A cell that is not a number (the R-134a table's heat capacity is
+/// `undefined` in its last two rows, next to the critical point) is NaN.
+pub fn reference_rows(file: &str) -> Vec<Vec<f64>> {
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../fluids/data/reference")
+        .join(file);
+    let text = std::fs::read_to_string(&path)
+        .unwrap_or_else(|e| panic!("cannot read {}: {e}", path.display()));
+    text.lines()
+        .filter(|line| !line.starts_with('#') && !line.trim().is_empty())
+        .skip(1)
+        .map(|line| {
+            line.split(',')
+                .map(|cell| cell.trim().parse().unwrap_or(f64::NAN))
+                .collect()
+        })
+        .collect()
 }

@@ -4,6 +4,8 @@ use binodal_eos::Model;
 use binodal_fluids::generate::{self, FITTED_MODELS};
 use binodal_fluids::{ACCURACY_TOML, Catalogue, FITS_TOML, reference};
 
+use crate::gaps;
+
 /// Recomputes every model of every fluid against its reference data and compares the
 /// result with `data/accuracy.toml`, line by line, at the printed precision (3 decimals).
 /// A difference means the data, the fits or the engine changed without rerunning
@@ -39,13 +41,19 @@ fn accuracy_file_matches_a_recomputation() {
     assert_eq!(recomputed, ACCURACY_TOML);
 }
 
-/// Every fluid has one record per model; fluids with reference data have vapor-pressure
-/// figures and a fitted alpha for the fitted models; the others are generalized and say
-/// that only the normal boiling point was checked.
+/// Every fluid has one record per model. Every fluid has reference data except those listed
+/// in `gaps::NO_REFERENCE_DATA` (with the reason there); those with data have vapor-pressure
+/// and enthalpy-of-vaporization figures and a fitted alpha for the fitted models; the listed
+/// ones are generalized and say that only the normal boiling point was checked.
 #[test]
 fn every_fluid_has_a_record_per_model() {
+    let mut without_data = Vec::new();
     for fluid in Catalogue::builtin().fluids() {
         let data = reference::reference_data(fluid).unwrap();
+        let enthalpy = reference::enthalpy_data(fluid).unwrap();
+        if data.is_none() {
+            without_data.push(fluid.id.as_str());
+        }
         assert_eq!(fluid.accuracy.len(), Model::ALL.len(), "{}", fluid.id);
         for model in Model::ALL {
             let record = fluid.accuracy_for(model).unwrap();
@@ -62,13 +70,40 @@ fn every_fluid_has_a_record_per_model() {
                 "{} {model}",
                 fluid.id
             );
-            match &data {
-                Some(d) => {
-                    assert_eq!(record.checked_against, d.citation);
+            match (&data, &enthalpy) {
+                (Some(d), Some(h)) => {
                     assert_eq!(record.vapor_pressure.unwrap().points, d.points.len());
+                    let hvap = record
+                        .enthalpy_of_vaporization
+                        .unwrap_or_else(|| panic!("{} {model}: no hvap figures", fluid.id));
+                    let below = |p: &&binodal_eos::ReferencePoint| {
+                        p.enthalpy_of_vaporization_j_per_mol.is_some()
+                            && p.temperature_k / fluid.constants.critical_temperature_k
+                                <= generate::HVAP_MAX_REDUCED_TEMPERATURE
+                    };
+                    assert_eq!(hvap.points, h.points.iter().filter(below).count());
+                    if h.file == d.file {
+                        assert_eq!(record.checked_against, d.citation);
+                    } else {
+                        // R-134a: WebBook table for the vapor pressure, VDI Heat Atlas table
+                        // for the enthalpy of vaporization; the record names both.
+                        assert_eq!(
+                            record.checked_against,
+                            format!(
+                                "{}; enthalpy of vaporization checked against {}",
+                                d.citation, h.citation
+                            )
+                        );
+                    }
                 }
-                None => {
+                (Some(_), None) => panic!(
+                    "{}: reference data without enthalpies of vaporization; every fluid with \
+                     data now has them",
+                    fluid.id
+                ),
+                (None, _) => {
                     assert!(record.vapor_pressure.is_none());
+                    assert!(record.enthalpy_of_vaporization.is_none());
                     assert!(
                         record
                             .checked_against
@@ -79,6 +114,46 @@ fn every_fluid_has_a_record_per_model() {
             assert_eq!(
                 record.normal_boiling_point.is_some(),
                 fluid.normal_boiling_point_k.is_some()
+            );
+        }
+    }
+    let mut expected = gaps::NO_REFERENCE_DATA.to_vec();
+    expected.sort_unstable();
+    without_data.sort_unstable();
+    assert_eq!(without_data, expected, "fluids without reference data");
+}
+
+/// R-134a's and R-125's enthalpies of vaporization come from the VDI Heat Atlas tables
+/// (data/reference/*_vdi_saturation.csv); R-125's vapor pressure too, since that table covers
+/// 200-330 K (and the triple point) where the extended Antoine equation of its correlation
+/// file is listed for 248.15-333.15 K only.
+#[test]
+fn vdi_tables_supply_the_refrigerant_enthalpies() {
+    for (id, vapor_pressure_file) in [
+        ("r134a", "reference/r134a_saturated_liquid.csv"),
+        ("r125", "reference/r125_vdi_saturation.csv"),
+    ] {
+        let fluid = Catalogue::builtin().get(id).unwrap();
+        let data = reference::reference_data(fluid).unwrap().unwrap();
+        let enthalpy = reference::enthalpy_data(fluid).unwrap().unwrap();
+        assert_eq!(data.file, vapor_pressure_file);
+        assert_eq!(enthalpy.file, format!("reference/{id}_vdi_saturation.csv"));
+        assert!(enthalpy.citation.contains("VDI Heat Atlas, 2nd ed."));
+        for model in Model::ALL {
+            let record = fluid.accuracy_for(model).unwrap();
+            assert!(record.checked_against.contains(enthalpy.file));
+            // The table's rows from the triple point to 0.95 Tc, less the triple-point row
+            // itself (it lies 0.01-0.03 K below the catalogue triple point): R-134a 195-345 K,
+            // R-125 200-320 K (VDI Heat Atlas tables, see the files).
+            let hvap = record.enthalpy_of_vaporization.unwrap();
+            let (from, to, points) = if id == "r134a" {
+                (195.0, 345.0, 8)
+            } else {
+                (200.0, 320.0, 7)
+            };
+            assert_eq!(
+                (hvap.t_min_k, hvap.t_max_k, hvap.points),
+                (from, to, points)
             );
         }
     }
@@ -110,7 +185,7 @@ fn fits_name_their_data_and_improve_on_the_generalized_model() {
                     .contains(data.file)
             );
             let fitted = fluid.accuracy_for(model).unwrap().vapor_pressure.unwrap();
-            let base = generate::accuracy_of(&generalized, Some(&data), model).unwrap();
+            let base = generate::accuracy_of(&generalized, Some(&data), None, model).unwrap();
             let base = base.vapor_pressure.unwrap();
             assert!(
                 fitted.mean_abs_percent <= base.mean_abs_percent,
