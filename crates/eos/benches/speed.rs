@@ -8,10 +8,14 @@
 //! | both saturated phases through the curve | a plain cubic solve |
 //! | classification at (T, P) through the curve | a plain cubic solve |
 //! | 10 000 classifications in one thread | 10 000 plain cubic solves |
+//! | blend (R-407C) one-phase state at (T, P) through its bubble and dew lines | a plain cubic solve |
+//! | blend (R-407C) one-phase state at (T, P) through the full solve | the lines |
+//! | blend (R-407C) two-phase state at (T, P) through its lines (the split is the flash) | a plain cubic solve |
+//! | blend (R-407C) two-phase state at (T, P) through the full solve | the lines |
 //!
 //! After criterion's own report the ratios are printed (mean time per call of each benchmark
 //! over the mean of its floor, both measured in this run). Run with
-//! `cargo bench -p binodal-eos --bench speed`.
+//! `cargo bench -p binodal-eos --bench speed` (only the blends: `... --bench speed -- blend`).
 
 use std::cell::RefCell;
 use std::collections::BTreeMap;
@@ -19,8 +23,8 @@ use std::hint::black_box;
 use std::time::{Duration, Instant};
 
 use binodal_eos::{
-    CURVE_DEGREE, FluidConstants, IdealGasCp, Model, PureEos, ReferenceState, clenshaw, estrin,
-    solve_cubic,
+    CURVE_DEGREE, FluidConstants, IdealGasCp, Mixture, Model, Phase, PureEos, ReferenceState,
+    clenshaw, estrin, solve_cubic,
 };
 use criterion::Criterion;
 
@@ -37,6 +41,29 @@ fn propane() -> FluidConstants {
         t_max_k: 1000.0,
     });
     f
+}
+
+/// R-407C: R-32/R-125/R-134a 23/25/52 by mass (ASHRAE Standard 34 nominal composition, from
+/// memory, as the catalogue records it), Peng-Robinson 1978 with the generalized alpha and
+/// `k_ij = 0`. Component constants as the catalogue's hfc.toml gives them: R-32 Tc 351.37 K,
+/// Pc 5.799 MPa and R-125 Tc 339.2 K, Pc 3.617 MPa (critical-property compilation of Biswas,
+/// Leenhouts, Green et al., J. Chem. Inf. Model. 2023), acentric factors 0.277, 0.305 and 0.327
+/// (Yaws 2014); R-134a Tc 374.21 K, Pc 4.0591 MPa (NIST Chemistry WebBook); triple points
+/// (CRC Handbook 95th ed.; R-134a: NIST Chemistry WebBook); molar masses from the standard
+/// atomic weights.
+fn r407c() -> Mixture {
+    let fluid = |name: &str, m: f64, tc: f64, pc: f64, omega: f64, triple: f64| {
+        let mut f = FluidConstants::new(name, m, tc, pc, omega);
+        f.triple_point_temperature_k = Some(triple);
+        PureEos::new(&f, Model::PengRobinson1978).expect("component")
+    };
+    let components = vec![
+        fluid("R-32", 0.052_023_386, 351.37, 5.799e6, 0.277, 136.35),
+        fluid("R-125", 0.120_021_356, 339.2, 3.617e6, 0.305, 172.55),
+        fluid("R-134a", 0.102_030_893, 374.21, 4.0591e6, 0.327, 169.86),
+    ];
+    let x = Mixture::mole_fractions_from_mass(&components, &[0.23, 0.25, 0.52]);
+    Mixture::new(components, x, None).expect("R-407C")
 }
 
 /// Mean time per call of every benchmark, accumulated over all of criterion's batches.
@@ -96,6 +123,10 @@ const STATE_SOLVE: &str = "classification at (T, P), full solve";
 const PLAIN_CUBIC: &str = "floor: plain cubic solve";
 const BATCH: &str = "10 000 classifications, one thread";
 const BATCH_FLOOR: &str = "floor: 10 000 plain cubic solves";
+const BLEND_ONE_CURVE: &str = "blend one-phase state at (T, P), lines";
+const BLEND_ONE_SOLVE: &str = "blend one-phase state at (T, P), full solve";
+const BLEND_TWO_CURVE: &str = "blend two-phase state at (T, P), lines";
+const BLEND_TWO_SOLVE: &str = "blend two-phase state at (T, P), full solve";
 
 fn main() {
     let mut c = Criterion::default().configure_from_args();
@@ -197,8 +228,54 @@ fn main() {
         densities[0]
     });
 
+    // R-407C: 64 temperatures inside the lines' range (230-325 K); at each, a one-phase state
+    // (alternately 30 % above the bubble pressure and 30 % below the dew pressure) and a
+    // two-phase state (the geometric mean of the two). The same states through the lines and
+    // through the full solve.
+    let blend = r407c();
+    let blend_lines = blend.clone().with_boundary_curves().expect("R-407C lines");
+    let mut one_phase = Vec::new();
+    let mut two_phase = Vec::new();
+    for i in 0..64 {
+        let t = 230.0 + 1.5 * i as f64;
+        let pb = blend.bubble_pressure(t).expect("bubble").0;
+        let pd = blend.dew_pressure(t).expect("dew").0;
+        one_phase.push((t, if i % 2 == 0 { 1.3 * pb } else { 0.7 * pd }));
+        two_phase.push((t, (pb * pd).sqrt()));
+    }
+    for (states, phases) in [
+        (
+            &one_phase,
+            [Phase::SubcooledLiquid, Phase::SuperheatedVapor],
+        ),
+        (&two_phase, [Phase::TwoPhase, Phase::TwoPhase]),
+    ] {
+        for (i, &(t, p)) in states.iter().enumerate() {
+            let lines = blend_lines.state(t, p).expect("in range");
+            assert_eq!(lines.phase, phases[i % 2], "at {t} K, {p} Pa");
+            assert_eq!(lines.phase, blend.state(t, p).expect("in range").phase);
+        }
+    }
+    tally.bench(&mut c, BLEND_ONE_CURVE, 1, || {
+        let (t, p) = one_phase[next()];
+        blend_lines.state(t, p).expect("in range")
+    });
+    tally.bench(&mut c, BLEND_ONE_SOLVE, 1, || {
+        let (t, p) = one_phase[next()];
+        blend.state(t, p).expect("in range")
+    });
+    tally.bench(&mut c, BLEND_TWO_CURVE, 1, || {
+        let (t, p) = two_phase[next()];
+        blend_lines.state(t, p).expect("in range")
+    });
+    tally.bench(&mut c, BLEND_TWO_SOLVE, 1, || {
+        let (t, p) = two_phase[next()];
+        blend.state(t, p).expect("in range")
+    });
+
     c.final_summary();
     println!();
+
     tally.print_ratio(CUBIC, CUBIC_FLOOR);
     tally.print_ratio(SAT_CURVE, CHEB_FLOOR);
     tally.print_ratio(SAT_CURVE, ESTRIN_FLOOR);
@@ -209,4 +286,8 @@ fn main() {
     tally.print_ratio(STATE_CURVE, PLAIN_CUBIC);
     tally.print_ratio(STATE_SOLVE, STATE_CURVE);
     tally.print_ratio(BATCH, BATCH_FLOOR);
+    tally.print_ratio(BLEND_ONE_CURVE, PLAIN_CUBIC);
+    tally.print_ratio(BLEND_ONE_SOLVE, BLEND_ONE_CURVE);
+    tally.print_ratio(BLEND_TWO_CURVE, PLAIN_CUBIC);
+    tally.print_ratio(BLEND_TWO_SOLVE, BLEND_TWO_CURVE);
 }

@@ -1,5 +1,6 @@
-//! Precomputed saturation curves: a phase-boundary line of one fluid under one model,
-//! tabulated once with the full solver and then read in a few tens of nanoseconds.
+//! Precomputed saturation curves: a phase-boundary line of one fluid (or one blend's bubble or
+//! dew line) under one model, tabulated once with the full solver and then read in a few tens of
+//! nanoseconds.
 //!
 //! ## What is stored
 //!
@@ -10,8 +11,14 @@
 //! - Inverse: `1/T` as a piecewise Chebyshev series in `ln P`, for the saturation temperature at
 //!   a pressure without iterating.
 //!
-//! Each series is split into equal-width segments of degree [`CURVE_DEGREE`], interpolated at the
-//! Chebyshev extrema of each segment (the segment ends are shared, so the curve is continuous).
+//! Each series is a run of pieces, each split into equal-width segments of degree
+//! [`CURVE_DEGREE`], interpolated at the Chebyshev extrema of each segment (the segment ends are
+//! shared, so the curve is continuous). A line is first split at its breakpoints
+//! ([`PhaseBoundary::breakpoints_k`]: temperatures where a derivative of the model jumps, none for
+//! a pure fluid); then each piece tries 2 and 4 segments, and a piece that needs more is halved,
+//! up to 4 times (a piece halved that often tries up to 32 segments). Segments are
+//! thus fine only where the line needs them, near its critical end; most pure fluids' curves are
+//! one piece of 2 or 4 segments.
 //!
 //! ## Verification
 //!
@@ -21,9 +28,11 @@
 //! interpolation error peaks), the full solver is run again: for the forward series the relative
 //! pressure deviation is `|ln P_curve - ln P_solver|`; for the inverse series the solver's vapor
 //! pressure at the curve's temperature is compared with the pressure asked for. The largest of
-//! each is recorded in [`CurveReport`]. A build starts with few segments and doubles them until
-//! both deviations are below [`CURVE_BUILD_TARGET`]; if even the finest layout stays above
-//! [`CURVE_TOLERANCE`], the build fails and the engine keeps using the full solver.
+//! each is recorded in [`CurveReport`]. A build refines (more segments, or halved pieces) until
+//! both deviations are below [`CURVE_BUILD_TARGET`] at every check point; if even the finest
+//! layout stays above [`CURVE_TOLERANCE`], the build fails and the engine keeps using the full
+//! solver. A layout is checked segment by segment from the critical end and abandoned at the
+//! first check point over the target, which saves the solves of layouts that cannot be kept.
 //!
 //! ## Where the curve is not used
 //!
@@ -38,19 +47,28 @@
 //!
 //! Every result says which path produced it ([`SolvePath`]).
 //!
-//! ## Blends (extension point)
+//! ## Blends
 //!
 //! The tabulation is generic over [`PhaseBoundary`]: anything with a reference solve of a
 //! boundary pressure over a temperature range. A pure fluid's saturation line is one
-//! ([`SaturationCurve::for_pure`]); a blend at fixed composition will have two, its bubble line
-//! and its dew line, each tabulated with [`SaturationCurve::build`] from a `PhaseBoundary` that
-//! calls the blend's bubble-point or dew-point solve.
+//! ([`SaturationCurve::for_pure`]); a mixture at fixed composition has two, its bubble line and
+//! its dew line ([`MixtureBoundaryLine`]), tabulated together as [`BoundaryCurves`] and attached
+//! with [`crate::Mixture::with_boundary_curves`]. A mixture with lines reads them for its bubble
+//! and dew pressures and temperatures and for its classification; it uses the solver above the
+//! lines' range ([`BOUNDARY_CURVE_BAND`] below where the solve stops converging), for the
+//! incipient compositions of bubble and dew points, and for the two-phase split (the flash). A
+//! mixture without lines (a custom mixture) always solves. Mathias-Copeman alpha functions
+//! change form at each component's critical temperature, so those temperatures are the
+//! breakpoints of a blend's lines.
 
+use std::cell::Cell;
 use std::fmt;
 use std::sync::Arc;
 
+use crate::alpha::Alpha;
 use crate::eos::PureEos;
 use crate::error::Error;
+use crate::mixture::Mixture;
 use crate::saturation::{SatPoint, Saturation};
 
 /// Relative width of the band below the critical temperature where the curve is not used:
@@ -70,8 +88,15 @@ pub const CURVE_DEGREE: usize = 16;
 /// Coefficients per segment.
 const STRIDE: usize = CURVE_DEGREE + 1;
 
-/// Segment counts tried in turn, each series separately.
-const SEGMENT_COUNTS: [usize; 5] = [2, 4, 8, 16, 32];
+/// Segment counts tried in turn on a piece of a series before the piece is halved.
+const SEGMENT_COUNTS: [usize; 2] = [2, 4];
+
+/// How many times a piece may be halved: the smallest piece spans 1/16 of its smooth piece.
+const MAX_HALVINGS: u32 = 4;
+
+/// Segment counts tried in turn on a piece that may not be halved any more; the last is kept
+/// even if it misses the build target (and the build fails if it misses the tolerance).
+const FINAL_SEGMENT_COUNTS: [usize; 5] = [2, 4, 8, 16, 32];
 
 /// Which path produced a result.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -101,11 +126,46 @@ pub trait PhaseBoundary {
     fn tabulation_range_k(&self) -> (f64, f64);
     /// The reference solve: the natural logarithm of the boundary pressure (Pa) at `t` (K).
     fn solve_ln_pressure(&self, t: f64) -> Result<f64, Error>;
+    /// Temperatures inside the range where the line is continuous but not smooth (a derivative
+    /// of the model jumps there), K. The curve is tabulated in separate pieces between them, so
+    /// that no Chebyshev segment spans one. None by default.
+    fn breakpoints_k(&self) -> Vec<f64> {
+        Vec::new()
+    }
 }
 
 /// The saturation line of a pure fluid, from its minimum temperature to the curve's band.
 #[derive(Debug, Clone, Copy)]
 pub struct PureSaturationLine<'a>(pub &'a PureEos);
+
+/// Which line of a mixture's two-phase envelope at fixed overall composition.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum BoundaryKind {
+    /// The bubble line: where the liquid of feed composition first forms vapor.
+    Bubble,
+    /// The dew line: where the vapor of feed composition first forms liquid.
+    Dew,
+}
+
+impl BoundaryKind {
+    /// A stable identifier: `bubble` or `dew`.
+    pub fn id(self) -> &'static str {
+        match self {
+            BoundaryKind::Bubble => "bubble",
+            BoundaryKind::Dew => "dew",
+        }
+    }
+}
+
+/// Relative width of the band below a mixture line's convergence limit (the highest
+/// temperature at which its bubble- or dew-point solve still converges, found by
+/// [`MixtureBoundaryLine::new`]) where the line's curve is not used: the curve covers the
+/// mixture's minimum temperature to `limit (1 - BOUNDARY_CURVE_BAND)`, and above that the
+/// solver answers. See [`MixtureBoundaryLine`] for why the band is this wide.
+pub const BOUNDARY_CURVE_BAND: f64 = 0.02;
+
+/// The convergence limit of a mixture line is located to this many kelvin.
+pub const BOUNDARY_LIMIT_RESOLUTION_K: f64 = 0.05;
 
 impl PhaseBoundary for PureSaturationLine<'_> {
     fn tabulation_range_k(&self) -> (f64, f64) {
@@ -117,6 +177,167 @@ impl PhaseBoundary for PureSaturationLine<'_> {
 
     fn solve_ln_pressure(&self, t: f64) -> Result<f64, Error> {
         Ok(self.0.solve_saturation_pressure_unchecked(t)?.pressure.ln())
+    }
+}
+
+/// A mixture's bubble or dew line at its fixed overall composition, from the mixture's minimum
+/// temperature to [`BOUNDARY_CURVE_BAND`] below the line's convergence limit.
+///
+/// The reference solve is the mixture's bubble- or dew-pressure solve (successive substitution
+/// from Wilson's K-values, as [`Mixture::bubble_at_temperature`]). It converges up to near the
+/// end of the envelope (the mixture's critical point for the bubble line, the cricondentherm for
+/// the dew line) and then fails: it finds only the trivial solution, or it stops converging.
+/// [`MixtureBoundaryLine::new`] locates that limit by bisection on the solve's success between
+/// the minimum temperature and the highest component critical temperature (the first probe at
+/// the pseudo-critical temperature, Kay's rule), to [`BOUNDARY_LIMIT_RESOLUTION_K`]. The
+/// bisection assumes the solve converges everywhere below the limit; the build checks that at
+/// every node and check point, and fails (leaving the mixture to its solver) if it does not.
+///
+/// Why a band of 2 % and not the pure fluids' 1e-4: the limit lies close to a singularity of
+/// both lines (the dew line turns back at the cricondentherm, a square-root branch point of
+/// `ln P` in `1/T`, and the bubble line runs on through the critical point into the same turn),
+/// so the segments must shrink toward it, and the solves there are several times slower
+/// (successive substitution converges linearly, with a rate that tends to 1 toward the end of
+/// the envelope). The lines of every catalogue blend under every model build to the tolerance
+/// with a band of 0.5 % too, but the cost grows as the band narrows: for the catalogue's 100
+/// lines (10 blends, 5 models), 0.50 s of one core at 2 %, 0.66 s at 1 % and 0.79 s at 0.5 %
+/// (measured on the project's 2-core machine, which other builds share; `docs/benchmarks.md`).
+/// 2 % keeps a server's start-up with every line under a second with room for that load.
+/// Between the top of a line and its limit the solver answers.
+#[derive(Debug, Clone, Copy)]
+pub struct MixtureBoundaryLine<'a> {
+    mixture: &'a Mixture,
+    kind: BoundaryKind,
+    convergence_limit_k: f64,
+}
+
+impl<'a> MixtureBoundaryLine<'a> {
+    /// The `kind` line of `mixture`, with its convergence limit located. Fails for a mixture of
+    /// one component (its answers are the pure fluid's: see [`SaturationCurve::for_pure`]) and
+    /// when the solve fails at the minimum temperature.
+    pub fn new(mixture: &'a Mixture, kind: BoundaryKind) -> Result<Self, Error> {
+        if mixture.single_component().is_some() {
+            return Err(Error::invalid(
+                "mole_fractions",
+                1.0,
+                "a mixture with one component answers as the pure fluid; it has no separate \
+                 bubble and dew lines (tabulate the fluid's saturation curve instead)",
+            ));
+        }
+        let bubble = kind == BoundaryKind::Bubble;
+        let converges = |t: f64| mixture.boundary_pressure(t, bubble).is_ok();
+        let t_min = mixture.minimum_temperature_k();
+        // The solve is refused at and above the highest component critical temperature.
+        let ceiling = mixture
+            .components()
+            .iter()
+            .map(|c| c.critical_temperature_k())
+            .fold(0.0, f64::max);
+        mixture.boundary_pressure(t_min, bubble)?;
+        let (mut lo, mut hi) = (t_min, ceiling);
+        let (t_pc, _) = mixture.pseudo_critical();
+        if t_pc > lo && t_pc < hi {
+            if converges(t_pc) {
+                lo = t_pc;
+            } else {
+                hi = t_pc;
+            }
+        }
+        while hi - lo > BOUNDARY_LIMIT_RESOLUTION_K {
+            let mid = 0.5 * (lo + hi);
+            if converges(mid) {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        Ok(MixtureBoundaryLine {
+            mixture,
+            kind,
+            convergence_limit_k: lo,
+        })
+    }
+
+    /// The highest temperature at which the line's solve was found to converge, K (within
+    /// [`BOUNDARY_LIMIT_RESOLUTION_K`] of where it stops converging).
+    pub fn convergence_limit_k(&self) -> f64 {
+        self.convergence_limit_k
+    }
+
+    /// Which line this is.
+    pub fn kind(&self) -> BoundaryKind {
+        self.kind
+    }
+}
+
+impl PhaseBoundary for MixtureBoundaryLine<'_> {
+    fn tabulation_range_k(&self) -> (f64, f64) {
+        (
+            self.mixture.minimum_temperature_k(),
+            self.convergence_limit_k * (1.0 - BOUNDARY_CURVE_BAND),
+        )
+    }
+
+    fn solve_ln_pressure(&self, t: f64) -> Result<f64, Error> {
+        let bubble = self.kind == BoundaryKind::Bubble;
+        Ok(self.mixture.boundary_pressure(t, bubble)?.pressure_pa.ln())
+    }
+
+    /// The critical temperatures of the components whose alpha function changes form there:
+    /// Mathias-Copeman (1983) keeps only its first coefficient above Tc, so the second
+    /// derivative of the component's attraction term, and with it the mixture's lines, jumps
+    /// at that temperature.
+    fn breakpoints_k(&self) -> Vec<f64> {
+        self.mixture
+            .components()
+            .iter()
+            .filter(|c| {
+                matches!(c.alpha(), Alpha::MathiasCopeman { c2, c3, .. } if c2 != 0.0 || c3 != 0.0)
+            })
+            .map(|c| c.critical_temperature_k())
+            .collect()
+    }
+}
+
+/// A mixture's bubble and dew lines, each a [`SaturationCurve`] tabulated from a
+/// [`MixtureBoundaryLine`] and verified against the mixture's solver, with the convergence
+/// limits they were built below. Build once per mixture (composition, `k_ij` and model);
+/// mixtures hold it in an [`Arc`] ([`Mixture::with_boundary_curves`]).
+#[derive(Debug, Clone)]
+pub struct BoundaryCurves {
+    bubble: SaturationCurve,
+    dew: SaturationCurve,
+    limits_k: [f64; 2],
+}
+
+impl BoundaryCurves {
+    /// Tabulates and verifies both lines of `mixture` (see [`MixtureBoundaryLine`]).
+    pub fn build(mixture: &Mixture) -> Result<BoundaryCurves, Error> {
+        let bubble = MixtureBoundaryLine::new(mixture, BoundaryKind::Bubble)?;
+        let dew = MixtureBoundaryLine::new(mixture, BoundaryKind::Dew)?;
+        Ok(BoundaryCurves {
+            bubble: SaturationCurve::build(&bubble)?,
+            dew: SaturationCurve::build(&dew)?,
+            limits_k: [bubble.convergence_limit_k(), dew.convergence_limit_k()],
+        })
+    }
+
+    /// One of the two lines.
+    #[inline]
+    pub fn line(&self, kind: BoundaryKind) -> &SaturationCurve {
+        match kind {
+            BoundaryKind::Bubble => &self.bubble,
+            BoundaryKind::Dew => &self.dew,
+        }
+    }
+
+    /// The highest temperature at which the line's solve converged, K: the curve covers up to
+    /// [`BOUNDARY_CURVE_BAND`] below it.
+    pub fn convergence_limit_k(&self, kind: BoundaryKind) -> f64 {
+        match kind {
+            BoundaryKind::Bubble => self.limits_k[0],
+            BoundaryKind::Dew => self.limits_k[1],
+        }
     }
 }
 
@@ -196,6 +417,8 @@ fn monomial(c: &[f64; STRIDE]) -> [f64; STRIDE] {
 struct Piecewise {
     lo: f64,
     hi: f64,
+    /// Segments of the layout (all of them once built).
+    count: usize,
     /// Segments per unit of the variable.
     scale: f64,
     /// Monomial coefficients of each segment in its own variable `u` in [-1, 1].
@@ -213,58 +436,74 @@ fn midpoint(j: usize) -> f64 {
 }
 
 impl Piecewise {
-    /// Interpolates `f` at the Chebyshev extrema of `segments` equal segments of `[lo, hi]`.
-    fn interpolate(
-        lo: f64,
-        hi: f64,
-        segments: usize,
-        mut f: impl FnMut(f64) -> Result<f64, Error>,
-    ) -> Result<Piecewise, Error> {
-        let width = (hi - lo) / segments as f64;
-        let mut blocks = Vec::with_capacity(segments);
-        let mut values = [0.0; STRIDE];
-        let mut shared_left = None;
-        for s in 0..segments {
-            let a = lo + width * s as f64;
-            let b = if s + 1 == segments { hi } else { a + width };
-            let (mid, half) = (0.5 * (a + b), 0.5 * (b - a));
-            // j = n is the left end, shared with the previous segment's right end (j = 0).
-            for (j, value) in values.iter_mut().enumerate() {
-                *value = match (j, shared_left) {
-                    (0, _) => f(b)?,
-                    (CURVE_DEGREE, Some(v)) => v,
-                    (CURVE_DEGREE, None) => f(a)?,
-                    _ => f(mid + half * extremum(j))?,
-                };
-            }
-            shared_left = Some(values[0]);
-            let n = CURVE_DEGREE as f64;
-            let mut coefficients = [0.0; STRIDE];
-            for (k, coefficient) in coefficients.iter_mut().enumerate() {
-                let mut sum = 0.0;
-                for (j, &v) in values.iter().enumerate() {
-                    let w = if j == 0 || j == CURVE_DEGREE {
-                        0.5
-                    } else {
-                        1.0
-                    };
-                    sum += w * v * (std::f64::consts::PI * (j * k) as f64 / n).cos();
-                }
-                let c = 2.0 / n * sum;
-                *coefficient = if k == 0 || k == CURVE_DEGREE {
-                    0.5 * c
-                } else {
-                    c
-                };
-            }
-            blocks.push(monomial(&coefficients));
-        }
-        Ok(Piecewise {
+    /// A layout of `count` equal segments on `[lo, hi]`, each to be filled by
+    /// [`Piecewise::fill_segment`] before it is evaluated.
+    fn layout(lo: f64, hi: f64, count: usize) -> Piecewise {
+        Piecewise {
             lo,
             hi,
-            scale: segments as f64 / (hi - lo),
-            segments: blocks,
-        })
+            count,
+            scale: count as f64 / (hi - lo),
+            segments: vec![[0.0; STRIDE]; count],
+        }
+    }
+
+    /// The ends of segment `s`.
+    fn segment_ends(&self, s: usize) -> (f64, f64) {
+        let width = (self.hi - self.lo) / self.count as f64;
+        let a = self.lo + width * s as f64;
+        let b = if s + 1 == self.count {
+            self.hi
+        } else {
+            a + width
+        };
+        (a, b)
+    }
+
+    /// Interpolates `f` at the Chebyshev extrema of segment `s`. `left` and `right` are the
+    /// values at its ends where a neighbouring segment has them already; returns the values at
+    /// both ends.
+    fn fill_segment(
+        &mut self,
+        s: usize,
+        f: &mut NodeValue<'_>,
+        left: Option<f64>,
+        right: Option<f64>,
+    ) -> Result<(f64, f64), Error> {
+        let (a, b) = self.segment_ends(s);
+        let (mid, half) = (0.5 * (a + b), 0.5 * (b - a));
+        let mut values = [0.0; STRIDE];
+        // j = 0 is the right end, j = n the left end.
+        for (j, value) in values.iter_mut().enumerate() {
+            *value = match (j, left, right) {
+                (0, _, Some(v)) => v,
+                (0, _, None) => f(b)?,
+                (CURVE_DEGREE, Some(v), _) => v,
+                (CURVE_DEGREE, None, _) => f(a)?,
+                _ => f(mid + half * extremum(j))?,
+            };
+        }
+        let n = CURVE_DEGREE as f64;
+        let mut coefficients = [0.0; STRIDE];
+        for (k, coefficient) in coefficients.iter_mut().enumerate() {
+            let mut sum = 0.0;
+            for (j, &v) in values.iter().enumerate() {
+                let w = if j == 0 || j == CURVE_DEGREE {
+                    0.5
+                } else {
+                    1.0
+                };
+                sum += w * v * (std::f64::consts::PI * (j * k) as f64 / n).cos();
+            }
+            let c = 2.0 / n * sum;
+            *coefficient = if k == 0 || k == CURVE_DEGREE {
+                0.5 * c
+            } else {
+                c
+            };
+        }
+        self.segments[s] = monomial(&coefficients);
+        Ok((values[CURVE_DEGREE], values[0]))
     }
 
     /// The series at `x`, which the caller keeps inside `[lo, hi]`.
@@ -277,22 +516,138 @@ impl Piecewise {
         estrin(&self.segments[i], u)
     }
 
-    /// The check points: the Chebyshev midpoints between the nodes of every segment.
-    fn check_points(&self) -> impl Iterator<Item = f64> + '_ {
-        let width = (self.hi - self.lo) / self.segments.len() as f64;
-        (0..self.segments.len()).flat_map(move |s| {
-            let a = self.lo + width * s as f64;
-            (0..CURVE_DEGREE).map(move |j| a + 0.5 * width * (1.0 + midpoint(j)))
-        })
+    /// The check points of segment `s`: the Chebyshev midpoints between its nodes.
+    fn check_points(&self, s: usize) -> impl Iterator<Item = f64> {
+        let width = (self.hi - self.lo) / self.count as f64;
+        let a = self.lo + width * s as f64;
+        (0..CURVE_DEGREE).map(move |j| a + 0.5 * width * (1.0 + midpoint(j)))
     }
+}
+
+/// Smooth pieces of a series side by side, ascending and contiguous in the variable: a line
+/// with breakpoints (one piece without).
+#[derive(Clone)]
+struct Pieces(Vec<Piecewise>);
+
+impl Pieces {
+    /// The series at `x`, which the caller keeps inside the first piece's `lo` and the last
+    /// piece's `hi`: the piece whose range holds `x` (at a shared end, the upper piece).
+    #[inline]
+    fn eval(&self, x: f64) -> f64 {
+        let mut piece = &self.0[0];
+        for next in &self.0[1..] {
+            if x < next.lo {
+                break;
+            }
+            piece = next;
+        }
+        piece.eval(x)
+    }
+
+    /// Segments of all pieces.
+    fn segments(&self) -> usize {
+        self.0.iter().map(|p| p.segments.len()).sum()
+    }
+}
+
+/// Which end of a series' variable lies toward the critical point: where a line is hardest to
+/// follow and a layout that misses the target usually misses it first.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum CriticalEnd {
+    /// The low end (the forward series: `1/T` is smallest at the top of the line).
+    Low,
+    /// The high end (the inverse series: `ln P` is largest at the top of the line).
+    High,
+}
+
+/// What [`refine`] returns: the pieces covering its range, ascending, with the largest
+/// deviation at their check points and the largest second figure.
+type Refined = (Vec<Piecewise>, f64, f64);
+
+/// The value a series interpolates, at a node.
+type NodeValue<'a> = dyn FnMut(f64) -> Result<f64, Error> + 'a;
+
+/// A series' deviation at a check point, and a second figure to keep the largest of.
+type CheckGap<'a> = dyn FnMut(&Piecewise, f64) -> Result<(f64, f64), Error> + 'a;
+
+/// Tabulates `f` on `[lo, hi]` so that `gap(series, check point)`, the deviation at every check
+/// point, is within [`CURVE_BUILD_TARGET`] (`gap` also returns a second figure, of which the
+/// largest is kept). The layouts of [`SEGMENT_COUNTS`] are tried in turn; if none meets the
+/// target, the range is halved and each half tabulated the same way, so that segments are fine
+/// only where the line needs them (near its critical end). A range halved [`MAX_HALVINGS`] times
+/// tries [`FINAL_SEGMENT_COUNTS`] instead and keeps the finest even if it misses the target.
+///
+/// Each layout is checked segment by segment from the critical end (the forward series builds
+/// its segments in that order, each node a solve) and abandoned at the first segment over the
+/// target, which saves the solves of the rest.
+fn refine(
+    lo: f64,
+    hi: f64,
+    f: &mut NodeValue<'_>,
+    gap: &mut CheckGap<'_>,
+    check_points: &mut usize,
+    critical: CriticalEnd,
+    halvings_left: u32,
+) -> Result<Refined, Error> {
+    let counts: &[usize] = if halvings_left == 0 {
+        &FINAL_SEGMENT_COUNTS
+    } else {
+        &SEGMENT_COUNTS
+    };
+    'layouts: for (k, &count) in counts.iter().enumerate() {
+        let keep = halvings_left == 0 && k + 1 == counts.len();
+        let mut series = Piecewise::layout(lo, hi, count);
+        let (mut worst, mut worst_second): (f64, f64) = (0.0, 0.0);
+        let mut shared = None;
+        for i in 0..count {
+            let s = match critical {
+                CriticalEnd::Low => i,
+                CriticalEnd::High => count - 1 - i,
+            };
+            let (left, right) = match critical {
+                CriticalEnd::Low => (shared, None),
+                CriticalEnd::High => (None, shared),
+            };
+            let (at_left, at_right) = series.fill_segment(s, f, left, right)?;
+            shared = Some(match critical {
+                CriticalEnd::Low => at_right,
+                CriticalEnd::High => at_left,
+            });
+            for x in series.check_points(s) {
+                *check_points += 1;
+                let (deviation, second) = gap(&series, x)?;
+                worst = worst.max(deviation);
+                worst_second = worst_second.max(second);
+            }
+            if worst > CURVE_BUILD_TARGET && !keep {
+                continue 'layouts;
+            }
+        }
+        return Ok((vec![series], worst, worst_second));
+    }
+    let mid = 0.5 * (lo + hi);
+    let (mut pieces, worst_a, second_a) =
+        refine(lo, mid, f, gap, check_points, critical, halvings_left - 1)?;
+    let (upper, worst_b, second_b) =
+        refine(mid, hi, f, gap, check_points, critical, halvings_left - 1)?;
+    pieces.extend(upper);
+    Ok((pieces, worst_a.max(worst_b), second_a.max(second_b)))
 }
 
 /// How a curve was built and how closely it follows the full solver.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct CurveReport {
-    /// Segments of the forward series (`ln P` in `1/T`).
+    /// Breakpoints inside the range ([`PhaseBoundary::breakpoints_k`]), where the line was
+    /// split into separately tabulated smooth pieces.
+    pub breakpoints: usize,
+    /// Pieces of the forward series: the smooth pieces, each halved where it needed more than
+    /// a few segments (see the module documentation).
+    pub pieces: usize,
+    /// Pieces of the inverse series.
+    pub inverse_pieces: usize,
+    /// Segments of the forward series (`ln P` in `1/T`), all pieces together.
     pub forward_segments: usize,
-    /// Segments of the inverse series (`1/T` in `ln P`).
+    /// Segments of the inverse series (`1/T` in `ln P`), all pieces together.
     pub inverse_segments: usize,
     /// Degree of every segment.
     pub degree: usize,
@@ -308,13 +663,14 @@ pub struct CurveReport {
     pub max_inverse_temperature_deviation_k: f64,
 }
 
-/// A tabulated phase-boundary line with its inverse: a pure fluid's saturation line, or (when
-/// blends are built) a blend's bubble or dew line. Build once per fluid and model; share it
-/// (engines hold it in an [`Arc`]).
+/// A tabulated phase-boundary line with its inverse: a pure fluid's saturation line, or a
+/// blend's bubble or dew line ([`BoundaryCurves`]). Build once per fluid (or blend) and model;
+/// share it (engines and mixtures hold it in an [`Arc`]).
 ///
 /// The forward series holds `ln P` as piecewise Chebyshev series in `1/T`, the inverse `1/T`
 /// in `ln P`; both are verified against the full solver at the midpoints between their nodes
-/// ([`CurveReport`]). Engines do not use the curve above `Tc (1 - CURVE_CRITICAL_BAND)`.
+/// ([`CurveReport`]). Engines do not use the curve above `Tc (1 - CURVE_CRITICAL_BAND)`; a
+/// blend's lines end [`BOUNDARY_CURVE_BAND`] below where their solves stop converging.
 #[derive(Clone)]
 pub struct SaturationCurve {
     t_min: f64,
@@ -322,9 +678,9 @@ pub struct SaturationCurve {
     p_min: f64,
     p_max: f64,
     /// `ln P(1/T)`.
-    forward: Piecewise,
+    forward: Pieces,
     /// `1/T(ln P)`.
-    inverse: Piecewise,
+    inverse: Pieces,
     report: CurveReport,
 }
 
@@ -344,7 +700,9 @@ impl SaturationCurve {
         SaturationCurve::build(&PureSaturationLine(eos))
     }
 
-    /// Tabulates any phase-boundary line and verifies it against the line's own solver.
+    /// Tabulates any phase-boundary line and verifies it against the line's own solver. The
+    /// line is tabulated in smooth pieces split at its breakpoints
+    /// ([`PhaseBoundary::breakpoints_k`]); each piece is refined on its own.
     pub fn build(line: &impl PhaseBoundary) -> Result<SaturationCurve, Error> {
         let (t_min, t_max) = line.tabulation_range_k();
         if !(t_min > 0.0 && t_min < t_max && t_max.is_finite()) {
@@ -355,73 +713,97 @@ impl SaturationCurve {
             ));
         }
         let (x_lo, x_hi) = (1.0 / t_max, 1.0 / t_min);
-        let mut solves = 0usize;
+        // The ends of the smooth pieces in x = 1/T, ascending.
+        let mut knots: Vec<f64> = line
+            .breakpoints_k()
+            .into_iter()
+            .filter(|&t| t > t_min && t < t_max)
+            .map(|t| 1.0 / t)
+            .collect();
+        knots.push(x_lo);
+        knots.push(x_hi);
+        knots.sort_by(f64::total_cmp);
+        knots.dedup();
+        let solves = Cell::new(0usize);
         let mut check_points = 0usize;
-        let mut solve = |x: f64| {
-            solves += 1;
+        let solve = |x: f64| {
+            solves.set(solves.get() + 1);
             line.solve_ln_pressure(1.0 / x)
         };
 
-        // Forward series, refined until its check points meet the target.
-        let mut forward = None;
-        for &segments in &SEGMENT_COUNTS {
-            let series = Piecewise::interpolate(x_lo, x_hi, segments, &mut solve)?;
-            let mut worst: f64 = 0.0;
-            for x in series.check_points().collect::<Vec<_>>() {
-                check_points += 1;
-                worst = worst.max((series.eval(x) - solve(x)?).abs());
-            }
-            let done = worst <= CURVE_BUILD_TARGET;
-            forward = Some((series, worst));
-            if done {
-                break;
-            }
+        // Forward series, each smooth piece refined until its check points meet the target.
+        let mut pieces = Vec::with_capacity(knots.len() - 1);
+        let mut forward_worst: f64 = 0.0;
+        for ends in knots.windows(2) {
+            let mut node = |x: f64| solve(x);
+            let mut gap =
+                |series: &Piecewise, x: f64| Ok(((series.eval(x) - solve(x)?).abs(), 0.0));
+            let (refined, worst, _) = refine(
+                ends[0],
+                ends[1],
+                &mut node,
+                &mut gap,
+                &mut check_points,
+                CriticalEnd::Low,
+                MAX_HALVINGS,
+            )?;
+            pieces.extend(refined);
+            forward_worst = forward_worst.max(worst);
         }
-        let (forward, forward_worst) = forward.expect("at least one layout");
+        let forward = Pieces(pieces);
         if forward_worst > CURVE_TOLERANCE {
             return Err(curve_failed("forward", forward_worst));
         }
 
-        // Inverse series: nodes by inverting the forward series, checks with the solver.
-        let (y_lo, y_hi) = (forward.eval(x_hi), forward.eval(x_lo));
-        let invert = |y: f64| -> Result<f64, Error> {
+        // Inverse series: nodes by inverting the forward series, checks with the solver. Its
+        // pieces end at the pressures of the forward pieces' ends (ln P falls as 1/T rises).
+        let y_knots: Vec<f64> = knots.iter().rev().map(|&x| forward.eval(x)).collect();
+        let mut invert = |y: f64| -> Result<f64, Error> {
             Ok(invert_decreasing(|x| forward.eval(x), y, x_lo, x_hi))
         };
-        let mut inverse = None;
-        for &segments in &SEGMENT_COUNTS {
-            let series = Piecewise::interpolate(y_lo, y_hi, segments, invert)?;
-            let (mut worst, mut worst_t): (f64, f64) = (0.0, 0.0);
-            for y in series.check_points().collect::<Vec<_>>() {
-                check_points += 1;
+        let mut pieces = Vec::with_capacity(y_knots.len() - 1);
+        let (mut inverse_worst, mut inverse_worst_t): (f64, f64) = (0.0, 0.0);
+        for ends in y_knots.windows(2) {
+            let mut gap = |series: &Piecewise, y: f64| {
                 let x = series.eval(y).clamp(x_lo, x_hi);
                 let gap = (y - solve(x)?).abs();
                 // d ln P / d T = -x^2 d ln P / d x, by a central difference on the forward series.
                 let h = 1e-6 * (x_hi - x_lo);
                 let (a, b) = ((x - h).max(x_lo), (x + h).min(x_hi));
                 let slope = (forward.eval(b) - forward.eval(a)) / (b - a) * x * x;
-                worst = worst.max(gap);
-                worst_t = worst_t.max(gap / slope.abs());
-            }
-            let done = worst <= CURVE_BUILD_TARGET;
-            inverse = Some((series, worst, worst_t));
-            if done {
-                break;
-            }
+                Ok((gap, gap / slope.abs()))
+            };
+            let (refined, worst, worst_t) = refine(
+                ends[0],
+                ends[1],
+                &mut invert,
+                &mut gap,
+                &mut check_points,
+                CriticalEnd::High,
+                MAX_HALVINGS,
+            )?;
+            pieces.extend(refined);
+            inverse_worst = inverse_worst.max(worst);
+            inverse_worst_t = inverse_worst_t.max(worst_t);
         }
-        let (inverse, inverse_worst, inverse_worst_t) = inverse.expect("at least one layout");
+        let inverse = Pieces(pieces);
         if inverse_worst > CURVE_TOLERANCE {
             return Err(curve_failed("inverse", inverse_worst));
         }
         let report = CurveReport {
-            forward_segments: forward.segments.len(),
-            inverse_segments: inverse.segments.len(),
+            breakpoints: knots.len() - 2,
+            pieces: forward.0.len(),
+            inverse_pieces: inverse.0.len(),
+            forward_segments: forward.segments(),
+            inverse_segments: inverse.segments(),
             degree: CURVE_DEGREE,
             check_points,
-            solves,
+            solves: solves.get(),
             max_pressure_deviation: forward_worst.exp_m1(),
             max_inverse_pressure_deviation: inverse_worst.exp_m1(),
             max_inverse_temperature_deviation_k: inverse_worst_t,
         };
+        let (y_lo, y_hi) = (y_knots[0], y_knots[y_knots.len() - 1]);
         Ok(SaturationCurve {
             t_min,
             t_max,

@@ -166,7 +166,11 @@ impl Error {
 impl fmt::Display for Error {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match &self.kind {
-            ErrorKind::NonFinite { field } => write!(f, "{field} must be a finite number"),
+            ErrorKind::NonFinite { field } => write!(
+                f,
+                "{field} must be a finite number (valid: finite and, for temperatures and \
+                 pressures, above zero)"
+            ),
             ErrorKind::NonPositive { field, value } => {
                 write!(f, "{field} = {value} must be greater than zero")
             }

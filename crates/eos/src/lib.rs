@@ -20,7 +20,8 @@
 //!   fits an interaction parameter to bubble pressures.
 //! - [`SaturationCurve`]: a precomputed, verified saturation curve; an engine given one with
 //!   [`PureEos::with_saturation_curve`] reads it instead of solving, and every result says
-//!   which path produced it ([`SolvePath`]).
+//!   which path produced it ([`SolvePath`]). A mixture's bubble and dew lines are two such
+//!   curves ([`BoundaryCurves`], [`Mixture::with_boundary_curves`]).
 //!
 //! The crate does no I/O and knows nothing of async runtimes or wire formats. Inputs are
 //! SI (K, Pa, mol); every failure is a typed [`Error`] naming the field and valid range.
@@ -54,8 +55,10 @@ pub use alpha::{Alpha, AlphaValue};
 pub use classify::{Margins, Phase, SATURATION_TOLERANCE, SolidBoundary, State};
 pub use cubic::{CubicRoots, solve_cubic};
 pub use curve::{
+    BOUNDARY_CURVE_BAND, BOUNDARY_LIMIT_RESOLUTION_K, BoundaryCurves, BoundaryKind,
     CURVE_BUILD_TARGET, CURVE_CRITICAL_BAND, CURVE_DEGREE, CURVE_TOLERANCE, CurveReport,
-    PhaseBoundary, PureSaturationLine, SaturationCurve, SolvePath, clenshaw, estrin,
+    MixtureBoundaryLine, PhaseBoundary, PureSaturationLine, SaturationCurve, SolvePath, clenshaw,
+    estrin,
 };
 pub use eos::{PhaseProperties, PureEos, ReferenceState};
 pub use error::{Error, ErrorKind};

@@ -8,6 +8,9 @@
 //! `ln phi_i = b_i/b (Z - 1) - ln(Z - B) - A/B (2 sum_j x_j a_ij / a - b_i/b) I`,
 //! with `I = ln((Z + d1 B)/(Z + d2 B)) / (d1 - d2)` (or `B/Z` for van der Waals).
 
+use std::sync::Arc;
+
+use crate::curve::{BoundaryCurves, BoundaryKind, SolvePath};
 use crate::eos::{PureEos, ReferenceState};
 use crate::error::{Error, ErrorKind, positive};
 use crate::fluid::GAS_CONSTANT as R;
@@ -41,6 +44,9 @@ pub struct Mixture {
     /// Bubble and dew pressure at the minimum temperature: the low end of the pressure range
     /// of `bubble_at_pressure` and `dew_at_pressure`, found once on first use.
     lowest_pressures: [std::sync::OnceLock<f64>; 2],
+    /// The precomputed bubble and dew lines, once attached (see [`BoundaryCurves`]); shared
+    /// between mixtures that differ only in reference state.
+    curves: Option<Arc<BoundaryCurves>>,
 }
 
 /// A bubble or dew point: the mixture at its composition in equilibrium with an incipient
@@ -56,6 +62,13 @@ pub struct PhaseBoundaryPoint {
     /// Properties of the mixture's own phase at this point (liquid at a bubble point,
     /// vapor at a dew point).
     pub bulk: MixturePhase,
+    /// [`SolvePath::Curve`] when the point's temperature came from the mixture's precomputed
+    /// line (a point at a pressure: the temperature from the inverse curve, then one bubble- or
+    /// dew-point solve at that temperature for the incipient composition and the pressure);
+    /// [`SolvePath::FullSolve`] when it was solved for this call. A point at a temperature is
+    /// always solved: the solve that gives the incipient composition gives the pressure too.
+    /// A mixture of one component reports the pure fluid's path.
+    pub path: SolvePath,
 }
 
 /// Properties of one mixture phase.
@@ -130,6 +143,22 @@ pub struct MixtureState {
     pub reduced_pressure: f64,
     /// Within 2 % of the pseudo-critical temperature and 10 % of its pressure.
     pub near_critical: bool,
+    /// [`SolvePath::Curve`] when every bubble and dew value of the margins (and so the
+    /// classification) came from the mixture's precomputed lines; [`SolvePath::FullSolve`]
+    /// when any came from the solver (outside the lines' ranges, or a mixture without lines).
+    /// Inside the two-phase region the split itself is always the flash.
+    pub path: SolvePath,
+}
+
+/// The components' attraction terms at one temperature, which the mixing rules need at every
+/// fugacity evaluation: computed once per temperature by the solves.
+struct AttractionAt {
+    /// `a_i(T)`.
+    a: Vec<f64>,
+    /// `d a_i / d T`.
+    da: Vec<f64>,
+    /// `sqrt(a_i a_j)`, row-major n x n.
+    sq: Vec<f64>,
 }
 
 struct MixParams {
@@ -225,6 +254,7 @@ impl Mixture {
             single,
             reference: None,
             lowest_pressures: Default::default(),
+            curves: None,
         })
     }
 
@@ -321,15 +351,73 @@ impl Mixture {
         Ok(self)
     }
 
-    fn params(&self, t: f64, x: &[f64]) -> MixParams {
+    /// This mixture with its bubble and dew lines tabulated and verified against its solver
+    /// (see [`BoundaryCurves`]): bubble and dew values and classification then read the lines
+    /// where they are valid. Fails if a line cannot be tabulated (its solver fails at the
+    /// minimum temperature, or the curve cannot meet [`crate::CURVE_TOLERANCE`]); keep the
+    /// mixture without lines then.
+    ///
+    /// A mixture of one component answers as that pure fluid: it gets the fluid's saturation
+    /// curve instead ([`PureEos::with_saturation_curve`]), and no [`BoundaryCurves`].
+    pub fn with_boundary_curves(mut self) -> Result<Mixture, Error> {
+        if let Some(i) = self.single {
+            let eos = self.components[i].clone().with_saturation_curve()?;
+            self.components[i] = eos;
+            return Ok(self);
+        }
+        let curves = BoundaryCurves::build(&self)?;
+        Ok(self.with_shared_boundary_curves(Arc::new(curves)))
+    }
+
+    /// This mixture using `curves`, which must have been built for a mixture of the same
+    /// components, composition, interaction parameters and model (mixtures that differ only
+    /// in reference state share one set).
+    pub fn with_shared_boundary_curves(mut self, curves: Arc<BoundaryCurves>) -> Mixture {
+        self.curves = Some(curves);
+        self
+    }
+
+    /// Index of the only component with a non-zero fraction, if there is one.
+    pub(crate) fn single_component(&self) -> Option<usize> {
+        self.single
+    }
+
+    /// The bubble and dew lines, if this mixture has them.
+    pub fn boundary_curves(&self) -> Option<&Arc<BoundaryCurves>> {
+        self.curves.as_ref()
+    }
+
+    /// One of the attached lines.
+    #[inline]
+    fn line(&self, kind: BoundaryKind) -> Option<&crate::SaturationCurve> {
+        self.curves.as_deref().map(|c| c.line(kind))
+    }
+
+    /// The components' attraction terms at `t`.
+    fn attraction_at(&self, t: f64) -> AttractionAt {
         let n = self.components.len();
-        let mut ai = Vec::with_capacity(n);
-        let mut dai = Vec::with_capacity(n);
+        let mut a = Vec::with_capacity(n);
+        let mut da = Vec::with_capacity(n);
+        for c in &self.components {
+            let (ai, dai, _) = c.attraction(t);
+            a.push(ai);
+            da.push(dai);
+        }
+        let mut sq = vec![0.0; n * n];
+        for i in 0..n {
+            for j in 0..n {
+                sq[i * n + j] = (a[i] * a[j]).sqrt();
+            }
+        }
+        AttractionAt { a, da, sq }
+    }
+
+    /// The mixing rules for composition `x` with the attraction terms of one temperature.
+    fn params_at(&self, at: &AttractionAt, x: &[f64]) -> MixParams {
+        let n = self.components.len();
+        let (ai, dai) = (&at.a, &at.da);
         let mut b = 0.0;
         for (c, xi) in self.components.iter().zip(x) {
-            let (a, da, _) = c.attraction(t);
-            ai.push(a);
-            dai.push(da);
             b += xi * c.co_volume();
         }
         let mut a_mix = 0.0;
@@ -338,7 +426,7 @@ impl Mixture {
         for i in 0..n {
             for j in 0..n {
                 let kij = 1.0 - self.kij[i * n + j];
-                let sq = (ai[i] * ai[j]).sqrt();
+                let sq = at.sq[i * n + j];
                 let aij = sq * kij;
                 a_row[i] += x[j] * aij;
                 a_mix += x[i] * x[j] * aij;
@@ -372,7 +460,19 @@ impl Mixture {
     /// Compressibility of composition `x` on the given root at (T, P), and the mixture
     /// parameters there.
     fn root(&self, t: f64, p: f64, x: &[f64], which: Root) -> (f64, MixParams) {
-        let mp = self.params(t, x);
+        self.root_at(&self.attraction_at(t), t, p, x, which)
+    }
+
+    /// [`Mixture::root`] with the attraction terms of `t` computed already.
+    fn root_at(
+        &self,
+        at: &AttractionAt,
+        t: f64,
+        p: f64,
+        x: &[f64],
+        which: Root,
+    ) -> (f64, MixParams) {
+        let mp = self.params_at(at, x);
         let rt = R * t;
         let (big_a, big_b) = (mp.a * p / (rt * rt), mp.b * p / rt);
         let (d1, d2) = self.constants();
@@ -381,23 +481,29 @@ impl Mixture {
         let c1 = big_a + w * big_b * big_b - u * big_b - u * big_b * big_b;
         let c0 = -(big_a * big_b + w * big_b * big_b + w * big_b * big_b * big_b);
         let roots = crate::cubic::solve_cubic(c2, c1, c0);
-        let physical: Vec<f64> = roots
-            .as_slice()
-            .iter()
-            .copied()
-            .filter(|&z| z > big_b)
-            .collect();
-        let z = match (which, physical.as_slice()) {
-            (_, []) => roots.largest(),
-            (Root::Liquid, r) => r[0],
-            (Root::Vapor, r) => r[r.len() - 1],
-        };
+        // The smallest (liquid) or largest (vapor) root above B; the largest root if none is.
+        let mut physical = roots.as_slice().iter().copied().filter(|&z| z > big_b);
+        let z = match which {
+            Root::Liquid => physical.next(),
+            Root::Vapor => physical.next_back(),
+        }
+        .unwrap_or_else(|| roots.largest());
         (z, mp)
     }
 
-    /// ln(phi_i) of composition `x` on root `which`; returns the compressibility too.
-    fn ln_phi(&self, t: f64, p: f64, x: &[f64], which: Root, out: &mut [f64]) -> f64 {
-        let (z, mp) = self.root(t, p, x, which);
+    /// ln(phi_i) of composition `x` on root `which`, with the attraction terms of `t` computed
+    /// already (the solves evaluate fugacities many times at one temperature); returns the
+    /// compressibility too.
+    fn ln_phi_at(
+        &self,
+        at: &AttractionAt,
+        t: f64,
+        p: f64,
+        x: &[f64],
+        which: Root,
+        out: &mut [f64],
+    ) -> f64 {
+        let (z, mp) = self.root_at(at, t, p, x, which);
         let rt = R * t;
         let (big_a, big_b) = (mp.a * p / (rt * rt), mp.b * p / rt);
         let i_term = self.log_term(z, big_b);
@@ -411,14 +517,17 @@ impl Mixture {
     }
 
     /// Residual Gibbs energy over RT of composition `x` on a root, to pick the stable root.
-    fn gibbs_residual(&self, t: f64, p: f64, x: &[f64], which: Root) -> f64 {
+    fn gibbs_residual(&self, at: &AttractionAt, t: f64, p: f64, x: &[f64], which: Root) -> f64 {
         let mut lp = vec![0.0; x.len()];
-        self.ln_phi(t, p, x, which, &mut lp);
+        self.ln_phi_at(at, t, p, x, which, &mut lp);
         x.iter().zip(&lp).map(|(xi, l)| xi * l).sum()
     }
 
     fn stable_root_for(&self, t: f64, p: f64, x: &[f64]) -> Root {
-        if self.gibbs_residual(t, p, x, Root::Liquid) <= self.gibbs_residual(t, p, x, Root::Vapor) {
+        let at = self.attraction_at(t);
+        if self.gibbs_residual(&at, t, p, x, Root::Liquid)
+            <= self.gibbs_residual(&at, t, p, x, Root::Vapor)
+        {
             Root::Liquid
         } else {
             Root::Vapor
@@ -477,6 +586,7 @@ impl Mixture {
         incipient[i] = 1.0;
         let props = if bubble { sat.liquid } else { sat.vapor };
         PhaseBoundaryPoint {
+            path: sat.path,
             temperature_k: sat.temperature_k,
             pressure_pa: sat.pressure_pa,
             incipient_mole_fractions: incipient,
@@ -531,8 +641,13 @@ impl Mixture {
         self.boundary_pressure(t, false)
     }
 
-    /// Successive substitution for the bubble (or dew) pressure at `t`.
-    fn boundary_pressure(&self, t: f64, bubble: bool) -> Result<PhaseBoundaryPoint, Error> {
+    /// Successive substitution for the bubble (or dew) pressure at `t`: the reference solve
+    /// of the mixture's lines (never reads them).
+    pub(crate) fn boundary_pressure(
+        &self,
+        t: f64,
+        bubble: bool,
+    ) -> Result<PhaseBoundaryPoint, Error> {
         let n = self.z.len();
         let wf: Vec<f64> = self
             .components
@@ -560,12 +675,13 @@ impl Mixture {
         } else {
             (Root::Vapor, Root::Liquid)
         };
+        let at = self.attraction_at(t);
+        let mut next = vec![0.0; n];
         for _ in 0..MAX_ITERATIONS {
-            self.ln_phi(t, p, &self.z, feed_root, &mut lf);
-            self.ln_phi(t, p, &other, other_root, &mut lo);
+            self.ln_phi_at(&at, t, p, &self.z, feed_root, &mut lf);
+            self.ln_phi_at(&at, t, p, &other, other_root, &mut lo);
             // K_i = y_i / x_i = phi_L / phi_V.
             let mut s = 0.0;
-            let mut next = vec![0.0; n];
             let mut trivial = true;
             for i in 0..n {
                 let k = if bubble {
@@ -591,7 +707,8 @@ impl Mixture {
                 .map(|(a, b)| (a - b).abs())
                 .fold(0.0, f64::max);
             p = if bubble { p * s } else { p / s };
-            other = next;
+            // `next` becomes the incipient phase; its old buffer is overwritten next time.
+            std::mem::swap(&mut other, &mut next);
             if !p.is_finite() || p <= 0.0 {
                 return Err(self.no_boundary(t, bubble));
             }
@@ -602,6 +719,7 @@ impl Mixture {
                     pressure_pa: p,
                     incipient_mole_fractions: other,
                     bulk,
+                    path: SolvePath::FullSolve,
                 });
             }
         }
@@ -629,33 +747,44 @@ impl Mixture {
     }
 
     /// Bubble point at pressure `p`: the temperature at which the liquid of feed composition
-    /// first boils.
+    /// first boils. Where the mixture's bubble line covers `p`, the temperature comes from the
+    /// line and one bubble-point solve at that temperature gives the incipient vapor, the bulk
+    /// liquid and the pressure (equal to `p` within the line's recorded inverse deviation);
+    /// elsewhere the temperature is solved for.
     pub fn bubble_at_pressure(&self, p: f64) -> Result<PhaseBoundaryPoint, Error> {
         if let Some(i) = self.single {
             return Ok(self.pure_point(i, self.components[i].saturation_at_pressure(p)?, true));
         }
-        self.boundary_temperature(p, true)
+        self.point_at_pressure(p, BoundaryKind::Bubble)
     }
 
     /// Dew point at pressure `p`: the temperature at which the vapor of feed composition
-    /// first condenses.
+    /// first condenses. Uses the mixture's dew line as [`Mixture::bubble_at_pressure`] uses
+    /// the bubble line.
     pub fn dew_at_pressure(&self, p: f64) -> Result<PhaseBoundaryPoint, Error> {
         if let Some(i) = self.single {
             return Ok(self.pure_point(i, self.components[i].saturation_at_pressure(p)?, false));
         }
-        self.boundary_temperature(p, false)
+        self.point_at_pressure(p, BoundaryKind::Dew)
     }
 
-    fn boundary_temperature(&self, p: f64, bubble: bool) -> Result<PhaseBoundaryPoint, Error> {
+    fn point_at_pressure(&self, p: f64, kind: BoundaryKind) -> Result<PhaseBoundaryPoint, Error> {
+        let bubble = kind == BoundaryKind::Bubble;
+        let p = self.check_boundary_pressure(p, bubble)?;
+        if let Some(t) = self.line(kind).and_then(|c| c.temperature_k(p))
+            && let Ok(mut point) = self.boundary_pressure(t, bubble)
+        {
+            point.path = SolvePath::Curve;
+            return Ok(point);
+        }
+        self.boundary_temperature(p, bubble)
+    }
+
+    /// Checks `p` against the low end of the bubble (or dew) line: the line's pressure at the
+    /// minimum temperature, solved once on first use.
+    fn check_boundary_pressure(&self, p: f64, bubble: bool) -> Result<f64, Error> {
         let p = positive("pressure_pa", p)?;
         let t_min = self.minimum_temperature_k();
-        let t_max = self
-            .components
-            .iter()
-            .map(|c| c.critical_temperature_k())
-            .fold(0.0, f64::max);
-        // The pressure range: between the boundary pressure at the lowest temperature and
-        // the highest temperature at which the boundary still exists.
         let cell = &self.lowest_pressures[usize::from(bubble)];
         let p_low = match cell.get() {
             Some(&p) => p,
@@ -671,6 +800,90 @@ impl Mixture {
                 format!("below the mixture's range: the lowest is {p_low} Pa at {t_min} K"),
             ));
         }
+        Ok(p)
+    }
+
+    /// Bubble pressure at `t`, Pa, and the path that produced it: from the mixture's bubble
+    /// line where it has one that covers `t`, else from the solver (the same solve as
+    /// [`Mixture::bubble_at_temperature`], without the incipient composition). Same range
+    /// and refusals as `bubble_at_temperature`.
+    pub fn bubble_pressure(&self, t: f64) -> Result<(f64, SolvePath), Error> {
+        self.line_pressure(t, BoundaryKind::Bubble)
+    }
+
+    /// Dew pressure at `t`, Pa, and the path that produced it (see
+    /// [`Mixture::bubble_pressure`]).
+    pub fn dew_pressure(&self, t: f64) -> Result<(f64, SolvePath), Error> {
+        self.line_pressure(t, BoundaryKind::Dew)
+    }
+
+    /// Bubble temperature at `p`, K, and the path that produced it: from the inverse of the
+    /// mixture's bubble line where it has one that covers `p`, else from the solver (as
+    /// [`Mixture::bubble_at_pressure`]). Same range and refusals as `bubble_at_pressure`.
+    pub fn bubble_temperature(&self, p: f64) -> Result<(f64, SolvePath), Error> {
+        self.line_temperature(p, BoundaryKind::Bubble)
+    }
+
+    /// Dew temperature at `p`, K, and the path that produced it (see
+    /// [`Mixture::bubble_temperature`]).
+    pub fn dew_temperature(&self, p: f64) -> Result<(f64, SolvePath), Error> {
+        self.line_temperature(p, BoundaryKind::Dew)
+    }
+
+    fn line_pressure(&self, t: f64, kind: BoundaryKind) -> Result<(f64, SolvePath), Error> {
+        if let Some(i) = self.single {
+            let eos = &self.components[i];
+            let p = eos.saturation_pressure(t)?;
+            return Ok((p, Self::pure_path(eos.curve_pressure(t).is_some())));
+        }
+        let t = self.check_t(t)?;
+        if let Some(p) = self.line(kind).and_then(|c| c.pressure_pa(t)) {
+            return Ok((p, SolvePath::Curve));
+        }
+        let point = self.boundary_pressure(t, kind == BoundaryKind::Bubble)?;
+        Ok((point.pressure_pa, SolvePath::FullSolve))
+    }
+
+    fn line_temperature(&self, p: f64, kind: BoundaryKind) -> Result<(f64, SolvePath), Error> {
+        if let Some(i) = self.single {
+            let eos = &self.components[i];
+            let t = eos.saturation_temperature(p)?;
+            return Ok((t, Self::pure_path(eos.curve_temperature(p).is_some())));
+        }
+        let bubble = kind == BoundaryKind::Bubble;
+        let p = self.check_boundary_pressure(p, bubble)?;
+        if let Some(t) = self.line(kind).and_then(|c| c.temperature_k(p)) {
+            return Ok((t, SolvePath::Curve));
+        }
+        Ok((
+            self.boundary_temperature(p, bubble)?.temperature_k,
+            SolvePath::FullSolve,
+        ))
+    }
+
+    fn pure_path(from_curve: bool) -> SolvePath {
+        if from_curve {
+            SolvePath::Curve
+        } else {
+            SolvePath::FullSolve
+        }
+    }
+
+    /// The full solve of a bubble (or dew) point at `p`: Brent on the temperature, each step a
+    /// bubble- (or dew-) pressure solve.
+    fn boundary_temperature(&self, p: f64, bubble: bool) -> Result<PhaseBoundaryPoint, Error> {
+        let p = self.check_boundary_pressure(p, bubble)?;
+        let t_min = self.minimum_temperature_k();
+        let t_max = self
+            .components
+            .iter()
+            .map(|c| c.critical_temperature_k())
+            .fold(0.0, f64::max);
+        // The pressure range: between the boundary pressure at the lowest temperature and
+        // the highest temperature at which the boundary still exists.
+        let p_low = *self.lowest_pressures[usize::from(bubble)]
+            .get()
+            .expect("set by the check");
         // Bracket around the Wilson (1968) estimate, widening in steps of 2 % of the range.
         let estimate = self.wilson_temperature(p, bubble, t_min, t_max);
         let step = 0.02 * (t_max - t_min);
@@ -764,9 +977,10 @@ impl Mixture {
         0.5 * (lo + hi)
     }
 
-    /// Temperature glide at pressure `p`: dew temperature minus bubble temperature, K.
+    /// Temperature glide at pressure `p`: dew temperature minus bubble temperature, K (from
+    /// the mixture's lines where they cover `p`, see [`Mixture::bubble_temperature`]).
     pub fn glide_at_pressure(&self, p: f64) -> Result<f64, Error> {
-        Ok(self.dew_at_pressure(p)?.temperature_k - self.bubble_at_pressure(p)?.temperature_k)
+        Ok(self.dew_temperature(p)?.0 - self.bubble_temperature(p)?.0)
     }
 
     /// Michelsen's tangent-plane test of the feed at (T, P): `Some(K-values)` of an
@@ -774,8 +988,9 @@ impl Mixture {
     fn stability(&self, t: f64, p: f64) -> Option<Vec<f64>> {
         let n = self.z.len();
         let feed_root = self.stable_root_for(t, p, &self.z);
+        let at = self.attraction_at(t);
         let mut lz = vec![0.0; n];
-        self.ln_phi(t, p, &self.z, feed_root, &mut lz);
+        self.ln_phi_at(&at, t, p, &self.z, feed_root, &mut lz);
         let d: Vec<f64> = (0..n)
             .map(|i| {
                 if self.z[i] > 0.0 {
@@ -804,7 +1019,7 @@ impl Mixture {
             for _ in 0..MAX_ITERATIONS {
                 let total: f64 = w.iter().sum();
                 let x: Vec<f64> = w.iter().map(|v| v / total).collect();
-                self.ln_phi(t, p, &x, trial, &mut lw);
+                self.ln_phi_at(&at, t, p, &x, trial, &mut lw);
                 let next: Vec<f64> = (0..n).map(|i| (d[i] - lw[i]).exp()).collect();
                 let change = next
                     .iter()
@@ -848,28 +1063,13 @@ impl Mixture {
     pub fn flash(&self, t: f64, p: f64) -> Result<Flash, Error> {
         let t = positive("temperature_k", t)?;
         let p = positive("pressure_pa", p)?;
-        let single = |me: &Mixture, root: Root, beta: f64| {
-            let props = me.phase(t, p, &me.z, root);
-            Flash {
-                vapor_fraction: beta,
-                liquid_mole_fractions: me.z.clone(),
-                vapor_mole_fractions: me.z.clone(),
-                single_phase: true,
-                liquid: props,
-                vapor: props,
-                enthalpy_j_per_mol: props.enthalpy_j_per_mol,
-            }
-        };
+        let single = |me: &Mixture, root: Root, beta: f64| me.one_phase(t, p, root, beta);
         let Some(mut k) = self.stability(t, p) else {
-            let root = self.stable_root_for(t, p, &self.z);
-            return Ok(single(
-                self,
-                root,
-                if root == Root::Vapor { 1.0 } else { 0.0 },
-            ));
+            return Ok(self.stable_one_phase(t, p));
         };
         let n = self.z.len();
         let (mut lx, mut ly) = (vec![0.0; n], vec![0.0; n]);
+        let at = self.attraction_at(t);
         for _ in 0..MAX_ITERATIONS {
             let beta = rachford_rice(&self.z, &k)?;
             if beta <= 0.0 || beta >= 1.0 {
@@ -884,8 +1084,8 @@ impl Mixture {
                 .map(|i| self.z[i] / (1.0 + beta * (k[i] - 1.0)))
                 .collect();
             let y: Vec<f64> = (0..n).map(|i| k[i] * x[i]).collect();
-            self.ln_phi(t, p, &x, Root::Liquid, &mut lx);
-            self.ln_phi(t, p, &y, Root::Vapor, &mut ly);
+            self.ln_phi_at(&at, t, p, &x, Root::Liquid, &mut lx);
+            self.ln_phi_at(&at, t, p, &y, Root::Vapor, &mut ly);
             let next: Vec<f64> = (0..n).map(|i| (lx[i] - ly[i]).exp()).collect();
             let change = next
                 .iter()
@@ -923,6 +1123,26 @@ impl Mixture {
 }
 
 impl Mixture {
+    /// The feed as one phase on `root`, with vapor fraction `beta`.
+    fn one_phase(&self, t: f64, p: f64, root: Root, beta: f64) -> Flash {
+        let props = self.phase(t, p, &self.z, root);
+        Flash {
+            vapor_fraction: beta,
+            liquid_mole_fractions: self.z.clone(),
+            vapor_mole_fractions: self.z.clone(),
+            single_phase: true,
+            liquid: props,
+            vapor: props,
+            enthalpy_j_per_mol: props.enthalpy_j_per_mol,
+        }
+    }
+
+    /// The flash result of a feed that is stable as one phase: on its stable root.
+    fn stable_one_phase(&self, t: f64, p: f64) -> Flash {
+        let root = self.stable_root_for(t, p, &self.z);
+        self.one_phase(t, p, root, if root == Root::Vapor { 1.0 } else { 0.0 })
+    }
+
     /// Pseudo-critical temperature and pressure (Kay's rule).
     pub fn pseudo_critical(&self) -> (f64, f64) {
         self.components
@@ -937,6 +1157,13 @@ impl Mixture {
     }
 
     /// Classifies the feed at (T, P) and computes its margins to the bubble and dew points.
+    ///
+    /// The four bubble and dew values come from the mixture's lines where it has them and they
+    /// cover (T, P), else from the solver ([`MixtureState::path`]). Where a line says the feed
+    /// lies outside the two-phase region (above the bubble pressure or below the dew pressure
+    /// at T), the feed is one phase and the flash's stability test is skipped: the properties
+    /// are those of the feed on its stable root, as the flash gives for a stable feed. Between
+    /// the lines, and without them, the flash decides.
     pub fn state(&self, temperature_k: f64, pressure_pa: f64) -> Result<MixtureState, Error> {
         let t = positive("temperature_k", temperature_k)?;
         let p = positive("pressure_pa", pressure_pa)?;
@@ -954,11 +1181,29 @@ impl Mixture {
         if p > 100.0 * pc {
             return Err(Error::out_of_range("pressure_pa", p, 0.0, 100.0 * pc, "Pa"));
         }
-        let flash = self.flash(t, p)?;
-        let bubble_p = self.bubble_at_temperature(t).ok().map(|b| b.pressure_pa);
-        let dew_p = self.dew_at_temperature(t).ok().map(|d| d.pressure_pa);
-        let bubble_t = self.bubble_at_pressure(p).ok().map(|b| b.temperature_k);
-        let dew_t = self.dew_at_pressure(p).ok().map(|d| d.temperature_k);
+        let lines = [
+            self.bubble_pressure(t),
+            self.dew_pressure(t),
+            self.bubble_temperature(p),
+            self.dew_temperature(p),
+        ];
+        let path = if lines.iter().all(|v| matches!(v, Ok((_, SolvePath::Curve)))) {
+            SolvePath::Curve
+        } else {
+            SolvePath::FullSolve
+        };
+        // One phase by the lines: above the bubble line or below the dew line.
+        let one_phase = match &lines[..2] {
+            [Ok((pb, SolvePath::Curve)), _] if p > *pb => true,
+            [_, Ok((pd, SolvePath::Curve))] if p < *pd => true,
+            _ => false,
+        };
+        let [bubble_p, dew_p, bubble_t, dew_t] = lines.map(|v| v.ok().map(|(x, _)| x));
+        let flash = if one_phase {
+            self.stable_one_phase(t, p)
+        } else {
+            self.flash(t, p)?
+        };
         use crate::Phase;
         let phase = if !flash.single_phase {
             Phase::TwoPhase
@@ -994,6 +1239,7 @@ impl Mixture {
             reduced_temperature: tr,
             reduced_pressure: pr,
             near_critical: (tr - 1.0).abs() <= 0.02 && (pr - 1.0).abs() <= 0.10,
+            path,
         })
     }
 }
