@@ -131,3 +131,148 @@ fn unreadable_rows_are_reported_and_the_exit_code_says_so() {
         result.stderr
     );
 }
+
+/// Four readings of the ammonia pump suction NH3-P101 at 2 bar absolute, one a second from
+/// 2026-01-15T06:00:00Z: subcooled by 6 K, by 1 K, by 1 K flagged bad, and by 6 K again. The
+/// temperatures are set from the service's own saturation temperature at 2 bar (asked through
+/// `binodal saturation`), so that the subcoolings are the script's values.
+fn pump_readings() -> String {
+    let saturation = run(&["--output", "json", "saturation", "R-717", "--at", "2bar"]).json();
+    let tsat = util::number(&saturation, "saturation_temperature_k");
+    format!(
+        "time,tag,fluid,pressure,temperature,quality\n\
+         # NH3-P101 suction, Harrowgate Cold Store (invented data)\n\
+         2026-01-15T06:00:00Z,NH3-P101,R-717,2bar,{:.3}K,\n\
+         2026-01-15T06:00:01Z,NH3-P101,,2bar,{:.3}K,\n\
+         2026-01-15T06:00:02Z,NH3-P101,,2bar,{:.3}K,bad\n\
+         2026-01-15T06:00:03Z,NH3-P101,,2bar,{:.3}K,good\n",
+        tsat - 6.0,
+        tsat - 1.0,
+        tsat - 1.0,
+        tsat - 6.0
+    )
+}
+
+/// The rule of the standard-input tests: subcooling below 3 K with a 1 K deadband, no delays, so
+/// that each reading's own subcooling decides (IEC 62682 / ISA-18.2 definitions of limit and
+/// deadband, as in the server's `machine.rs`).
+const PUMP_RULE: &str =
+    "NH3-P101=minimum-subcooling,limit=3,deadband=1,on_delay_s=0,off_delay_s=0,priority=medium";
+
+/// `binodal watch -` plays readings from standard input: the 1 K subcooling raises the alarm at
+/// 06:00:01, the bad-quality reading is a quality event and not a phase alarm, and the 6 K reading
+/// (past limit + deadband = 4 K) clears it at 06:00:03.
+#[test]
+fn readings_on_standard_input_raise_and_clear_the_alarm() {
+    let input = pump_readings();
+    let result = util::run_with_stdin(
+        &["--output", "json", "watch", "-", "--rule", PUMP_RULE],
+        &input,
+    );
+    let stdout = result.ok();
+    let events: Vec<serde_json::Value> = stdout
+        .lines()
+        .map(|line| serde_json::from_str(line).expect("one JSON object per line"))
+        .collect();
+    let text = |e: &serde_json::Value, key: &str| e[key].as_str().unwrap_or_default().to_string();
+    assert_eq!(text(&events[0], "kind"), "notice");
+    assert!(
+        text(&events[0], "message").contains("advisory"),
+        "{}",
+        events[0]
+    );
+    let tagged: Vec<(String, String, String)> = events
+        .iter()
+        .filter(|e| text(e, "kind") != "notice")
+        .map(|e| (text(e, "kind"), text(e, "time"), text(e, "tag")))
+        .collect();
+    let expected = [
+        ("raised", "2026-01-15T06:00:01Z"),
+        ("quality", "2026-01-15T06:00:02Z"),
+        ("cleared", "2026-01-15T06:00:03Z"),
+    ];
+    assert_eq!(
+        tagged,
+        expected
+            .iter()
+            .map(|(kind, time)| (kind.to_string(), time.to_string(), "NH3-P101".to_string()))
+            .collect::<Vec<_>>(),
+        "{stdout}"
+    );
+    let raised = events
+        .iter()
+        .find(|e| text(e, "kind") == "raised")
+        .expect("raised");
+    assert_eq!(text(raised, "transition"), "boiling");
+    assert_eq!(text(raised, "priority"), "medium");
+    assert_eq!(text(raised, "rule"), "minimum-subcooling");
+    assert_eq!(raised["limit"].as_f64(), Some(3.0));
+    // The temperature was written to 0.001 K: the subcooling is 1 K within that rounding.
+    util::assert_close(
+        util::number(raised, "value"),
+        1.0,
+        0.0005,
+        "subcooling at 06:00:01",
+        "the script's input",
+    );
+    let quality = events
+        .iter()
+        .find(|e| text(e, "kind") == "quality")
+        .expect("quality");
+    assert_eq!(text(quality, "quality_issue"), "bad_quality_flag");
+    let cleared = events
+        .iter()
+        .find(|e| text(e, "kind") == "cleared")
+        .expect("cleared");
+    assert_eq!(cleared["limit"].as_f64(), Some(4.0), "limit plus deadband");
+    assert!(
+        result
+            .stderr
+            .contains("4 readings played: 1 raised, 1 cleared, 1 quality events"),
+        "summary: {}",
+        result.stderr
+    );
+    assert!(
+        result.stderr.contains("Alarms are advisory"),
+        "{}",
+        result.stderr
+    );
+}
+
+/// Without a file argument `binodal watch` reads standard input too; the table output prints one
+/// line per event with its time and kind.
+#[test]
+fn without_a_file_watch_reads_standard_input() {
+    let input = pump_readings();
+    let result = util::run_with_stdin(&["watch", "--rule", PUMP_RULE], &input);
+    let stdout = result.ok();
+    let lines: Vec<&str> = stdout
+        .lines()
+        .filter(|line| line.starts_with("2026-"))
+        .collect();
+    assert_eq!(lines.len(), 3, "{stdout}");
+    assert!(
+        lines[0].starts_with("2026-01-15T06:00:01Z  RAISED"),
+        "{stdout}"
+    );
+    assert!(lines[0].contains("NH3-P101"), "{stdout}");
+    assert!(
+        lines[1].starts_with("2026-01-15T06:00:02Z  QUALITY"),
+        "{stdout}"
+    );
+    assert!(
+        lines[2].starts_with("2026-01-15T06:00:03Z  CLEARED"),
+        "{stdout}"
+    );
+    assert!(
+        stdout
+            .lines()
+            .any(|line| line.starts_with("NOTICE") && line.contains("advisory")),
+        "{stdout}"
+    );
+    assert!(
+        result.stderr.contains("1 raised, 1 cleared"),
+        "{}",
+        result.stderr
+    );
+}

@@ -1,13 +1,18 @@
-//! Start-up preparation of the pure-fluid engines: every fluid of the catalogue (built-in and
-//! user fluids alike) under every model gets a verified saturation curve, built in parallel on
-//! the machine's cores (rayon's global pool), and then one engine per reference state sharing
-//! that curve. A curve that cannot be built is logged and its engine answers through the full
-//! solver; requests say which path answered them.
+//! Start-up preparation of the pure-fluid engines and the catalogue blends: every fluid of the
+//! catalogue (built-in and user fluids alike) under every model gets a verified saturation
+//! curve, and every catalogue blend under every model its verified bubble and dew lines, built
+//! in parallel on the machine's cores (rayon's global pool); then one engine (or mixture) per
+//! reference state shares them. A curve that cannot be built is logged and its engine answers
+//! through the full solver; requests say which path answered them. Custom mixtures, made per
+//! request, have no lines and always use the full solver.
 
 use std::collections::HashMap;
+use std::sync::Arc;
 use std::time::Instant;
 
-use binodal_eos::{Model, PureEos, ReferenceState};
+use binodal_eos::{
+    BoundaryCurves, BoundaryKind, ErrorKind, Mixture, Model, PureEos, ReferenceState,
+};
 use binodal_fluids::FluidRecord;
 use rayon::prelude::*;
 
@@ -74,11 +79,18 @@ pub fn prepare_pure(
                     references
                         .iter()
                         .map(|&r| {
-                            let eos = plain
-                                .clone()
-                                .with_reference(r)
-                                .unwrap_or_else(|_| plain.clone());
-                            (r, Ok(eos))
+                            // Without ideal-gas data the engine answers without absolute h
+                            // and s (documented in the proto); any other failure means the
+                            // reference state cannot apply to this fluid, and requests for it
+                            // are refused (`Engines::choose`).
+                            let eos = match plain.clone().with_reference(r) {
+                                Ok(eos) => Ok(eos),
+                                Err(e) if matches!(e.kind(), ErrorKind::MissingData { .. }) => {
+                                    Ok(plain.clone())
+                                }
+                                Err(e) => Err(e),
+                            };
+                            (r, eos)
                         })
                         .collect()
                 }
@@ -98,8 +110,8 @@ pub fn prepare_pure(
         .collect();
     for (i, model, engines) in built {
         let curve = engines
-            .first()
-            .and_then(|(_, e)| e.as_ref().ok())
+            .iter()
+            .find_map(|(_, e)| e.as_ref().ok())
             .map(|e| e.saturation_curve().map(|c| *c.report()));
         match curve {
             Some(Some(report)) => {
@@ -130,6 +142,136 @@ pub fn prepare_pure(
         threads = summary.threads,
         elapsed_ms = summary.elapsed_ms,
         "saturation curves built"
+    );
+    (out, summary)
+}
+
+/// Every catalogue blend (by its position in the catalogue's blend list) under every model and
+/// reference state: the prepared mixture, or its construction error.
+pub type BlendMixtures =
+    HashMap<(usize, Model, ReferenceState), Result<Arc<Mixture>, binodal_eos::Error>>;
+
+/// What the blend line builds did, for the start-up log.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct BlendCurveSummary {
+    /// Blend and model pairs with both lines built and verified.
+    pub built: usize,
+    /// Blend and model pairs left without lines (their mixtures use the full solver).
+    pub failed: usize,
+    /// Largest recorded relative pressure deviation of any line from the solver (forward or
+    /// inverse series).
+    pub max_pressure_deviation: f64,
+    /// Largest recorded deviation of any inverse line, as a temperature, K.
+    pub max_temperature_deviation_k: f64,
+    /// Full solves run by all builds (locating each line's convergence limit not included).
+    pub solves: usize,
+    /// Wall time of the parallel preparation (mixtures, reference states and lines), ms.
+    pub elapsed_ms: f64,
+}
+
+/// Prepares `blends` catalogue blends under every model and each of `references`, in parallel
+/// on rayon's pool: `build(blend, model, reference)` makes each mixture, and every blend and
+/// model gets its bubble and dew lines ([`binodal_eos::BoundaryCurves`]), built once and shared
+/// by its reference states. A pair whose lines cannot be built is logged and its mixtures
+/// answer through the full solver.
+pub fn prepare_blends(
+    blends: usize,
+    references: &[ReferenceState],
+    build: impl Fn(usize, Model, ReferenceState) -> Result<Mixture, binodal_eos::Error> + Sync,
+    name: impl Fn(usize) -> String + Sync,
+) -> (BlendMixtures, BlendCurveSummary) {
+    let started = Instant::now();
+    let jobs: Vec<(usize, Model)> = (0..blends)
+        .flat_map(|i| Model::ALL.into_iter().map(move |m| (i, m)))
+        .collect();
+    type Prepared = (
+        usize,
+        Model,
+        Option<Result<Arc<BoundaryCurves>, binodal_eos::Error>>,
+        Vec<(ReferenceState, Result<Mixture, binodal_eos::Error>)>,
+    );
+    let built: Vec<Prepared> = jobs
+        .par_iter()
+        .map(|&(i, model)| {
+            let mixtures: Vec<_> = references
+                .iter()
+                .map(|&r| (r, build(i, model, r)))
+                .collect();
+            // The lines do not depend on the reference state: build them from the first
+            // mixture that exists.
+            let curves = mixtures
+                .iter()
+                .find_map(|(_, m)| m.as_ref().ok())
+                .map(|m| BoundaryCurves::build(m).map(Arc::new));
+            (i, model, curves, mixtures)
+        })
+        .collect();
+
+    let mut summary = BlendCurveSummary::default();
+    let mut out = BlendMixtures::new();
+    for (i, model, curves, mixtures) in built {
+        let curves = match curves {
+            Some(Ok(curves)) => {
+                summary.built += 1;
+                for kind in [BoundaryKind::Bubble, BoundaryKind::Dew] {
+                    let line = curves.line(kind);
+                    let report = line.report();
+                    let (t_lo, t_hi) = line.temperature_range_k();
+                    tracing::debug!(
+                        blend = %name(i),
+                        model = model.id(),
+                        line = kind.id(),
+                        from_k = t_lo,
+                        to_k = t_hi,
+                        convergence_limit_k = curves.convergence_limit_k(kind),
+                        max_relative_pressure_deviation = report
+                            .max_pressure_deviation
+                            .max(report.max_inverse_pressure_deviation),
+                        "blend line built"
+                    );
+                    summary.solves += report.solves;
+                    summary.max_pressure_deviation = summary
+                        .max_pressure_deviation
+                        .max(report.max_pressure_deviation)
+                        .max(report.max_inverse_pressure_deviation);
+                    summary.max_temperature_deviation_k = summary
+                        .max_temperature_deviation_k
+                        .max(report.max_inverse_temperature_deviation_k);
+                }
+                Some(curves)
+            }
+            Some(Err(error)) => {
+                summary.failed += 1;
+                tracing::warn!(
+                    blend = %name(i),
+                    model = model.id(),
+                    %error,
+                    "no bubble and dew lines: this blend and model answer through the full solver"
+                );
+                None
+            }
+            None => None,
+        };
+        for (reference, mixture) in mixtures {
+            let mixture = mixture.map(|m| match &curves {
+                Some(c) => Arc::new(m.with_shared_boundary_curves(Arc::clone(c))),
+                None => Arc::new(m),
+            });
+            out.insert((i, model, reference), mixture);
+        }
+    }
+    summary.elapsed_ms = started.elapsed().as_secs_f64() * 1e3;
+    tracing::info!(
+        blends,
+        lines = 2 * summary.built,
+        without_lines = summary.failed,
+        band_below_convergence_limit = binodal_eos::BOUNDARY_CURVE_BAND,
+        max_relative_pressure_deviation = summary.max_pressure_deviation,
+        max_temperature_deviation_k = summary.max_temperature_deviation_k,
+        solves = summary.solves,
+        threads = rayon::current_num_threads(),
+        elapsed_ms = summary.elapsed_ms,
+        "blend bubble and dew lines built"
     );
     (out, summary)
 }

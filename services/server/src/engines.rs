@@ -114,19 +114,28 @@ impl Engines {
             default_model,
             default_reference,
         };
-        let mut blends = HashMap::new();
-        let mut blend_components = Vec::new();
-        for (i, blend) in engines.catalogue.blends().iter().enumerate() {
-            for model in Model::ALL {
-                for reference in REFERENCES {
-                    let mixture = engines
-                        .build_mixture(&blend.components, true, model, Some(reference))
-                        .map(|(m, _)| Arc::new(m));
-                    blends.insert((i, model, reference), mixture);
-                }
-            }
-            blend_components.push(engines.component_records(&blend.components));
-        }
+        // Every blend, model and reference state, with bubble and dew lines per blend and
+        // model, built in parallel (see `curves`).
+        let catalogue_blends = engines.catalogue.blends();
+        let (blends, _lines) = crate::curves::prepare_blends(
+            catalogue_blends.len(),
+            &REFERENCES,
+            |i, model, reference| {
+                engines
+                    .build_mixture(
+                        &catalogue_blends[i].components,
+                        true,
+                        model,
+                        Some(reference),
+                    )
+                    .map(|(m, _)| m)
+            },
+            |i| catalogue_blends[i].id.clone(),
+        );
+        let blend_components = catalogue_blends
+            .iter()
+            .map(|blend| engines.component_records(&blend.components))
+            .collect();
         engines.blends = blends;
         engines.blend_components = blend_components;
         let mut blend_names = HashMap::new();
@@ -308,6 +317,7 @@ impl Engines {
         let model = model.unwrap_or(self.default_model);
         let tc = fluid.constants.critical_temperature_k;
         let zero_celsius_applies = tc * (1.0 - binodal_eos::NEAR_CRITICAL_BAND) > 273.15;
+        let requested = reference;
         let reference = match reference {
             Some(ReferenceState::LiquidAtZeroCelsius) if !zero_celsius_applies => {
                 return Err(ServiceError::field(
@@ -327,12 +337,33 @@ impl Engines {
             .fluids
             .get(&fluid.id)
             .expect("every catalogue fluid is prepared");
-        let eos = engines
+        let usable = |r: ReferenceState| matches!(engines.by_model.get(&(model, r)), Some(Ok(_)));
+        // A defaulted reference that cannot apply to this fluid gives way to one that can.
+        let reference = match REFERENCES.iter().find(|&&r| usable(r)) {
+            Some(&other) if requested.is_none() && !usable(reference) => other,
+            _ => reference,
+        };
+        let eos = match engines
             .by_model
             .get(&(model, reference))
             .expect("every model and reference is prepared")
-            .as_ref()
-            .map_err(|e| ServiceError::Engine(e.clone()))?;
+        {
+            Ok(eos) => eos,
+            // The fluid works under this model with another reference: the reference is at fault
+            // (e.g. carbon dioxide has no liquid at one atmosphere, its triple point lies above).
+            Err(e) if REFERENCES.iter().any(|&r| r != reference && usable(r)) => {
+                return Err(ServiceError::field(
+                    "reference_state",
+                    format!(
+                        "{} cannot use the reference state {}: the model finds no saturated \
+                         liquid at its defining condition ({e}); choose another reference state",
+                        fluid.name,
+                        reference.id()
+                    ),
+                ));
+            }
+            Err(e) => return Err(ServiceError::Engine(e.clone())),
+        };
         let basis = engines
             .bases
             .get(&(model, reference))

@@ -208,6 +208,9 @@ async fn drain_on(shutdown: impl Future<Output = ()>, health: HealthReporter) {
         .set_not_serving::<PhaseServiceServer<PhaseApi>>()
         .await;
     health
+        .set_not_serving::<AlarmServiceServer<alarms::AlarmApi>>()
+        .await;
+    health
         .set_service_status("", ServingStatus::NotServing)
         .await;
 }

@@ -10,9 +10,13 @@
 //! are bounded per connection by `limits.max_concurrent_streams`).
 //!
 //! A call that takes longer than `limits.request_timeout_ms` (waiting for a slot included) is
-//! answered DEADLINE_EXCEEDED, naming the setting. (A deadline the client sets itself, with the
-//! `grpc-timeout` metadata, is enforced by tonic as well; the client then sees its own
-//! DEADLINE_EXCEEDED.)
+//! answered DEADLINE_EXCEEDED, naming the setting. A shorter deadline the client sends itself, in
+//! the `grpc-timeout` metadata, is answered the same way, naming the client's deadline: the gRPC
+//! status codes (doc/statuscodes.md of the gRPC project) give DEADLINE_EXCEEDED for a deadline
+//! that expires before the server returns a status. tonic's transport also enforces that header,
+//! around this layer, but answers CANCELLED ("Timeout expired"); this layer's timer is therefore
+//! set [`TIMER_RESOLUTION`] short of the client's deadline, so that it fires first. (A tonic
+//! client runs the same timer on its side and may still report its own CANCELLED first.)
 //!
 //! Health checks are exempt from both: a busy server must still answer its probes, or an
 //! orchestrator would restart a replica that is merely working hard; and a health watch is a
@@ -52,13 +56,70 @@ impl AdmissionLayer {
     }
 }
 
-/// The answer to a call that ran out of time.
-fn deadline_exceeded(timeout: Duration) -> http::Response<Body> {
-    Status::deadline_exceeded(format!(
-        "the call took longer than the server's limit of {} ms (limits.request_timeout_ms)",
-        timeout.as_millis()
-    ))
-    .into_http()
+/// Granularity of tokio's timers: a deadline fires in the millisecond tick at or after it
+/// (tokio documentation of `tokio::time::Sleep`: "operates at millisecond granularity").
+const TIMER_RESOLUTION: Duration = Duration::from_millis(1);
+
+/// Whose limit ended a call.
+#[derive(Debug, Clone, Copy)]
+enum TimeLimit {
+    /// The server's `limits.request_timeout_ms`.
+    Server(Duration),
+    /// The deadline the client sent in `grpc-timeout`.
+    Client(Duration),
+}
+
+impl TimeLimit {
+    /// The shorter of the server's limit and the client's deadline in `headers`, and the
+    /// instant at which this layer gives up: for a client deadline, [`TIMER_RESOLUTION`] early,
+    /// so that tonic's own timer for the same header (started just before, answering CANCELLED)
+    /// never fires first.
+    fn for_call(headers: &http::HeaderMap, server: Duration) -> (TimeLimit, tokio::time::Instant) {
+        let now = tokio::time::Instant::now();
+        match client_timeout(headers) {
+            Some(client) if client < server => (
+                TimeLimit::Client(client),
+                now + client.saturating_sub(TIMER_RESOLUTION),
+            ),
+            _ => (TimeLimit::Server(server), now + server),
+        }
+    }
+
+    /// The answer to a call that ran out of time.
+    fn exceeded(self) -> http::Response<Body> {
+        let message = match self {
+            TimeLimit::Server(timeout) => format!(
+                "the call took longer than the server's limit of {} ms (limits.request_timeout_ms)",
+                timeout.as_millis()
+            ),
+            TimeLimit::Client(deadline) => format!(
+                "the call took longer than the deadline of {} ms the client set (grpc-timeout)",
+                deadline.as_millis()
+            ),
+        };
+        Status::deadline_exceeded(message).into_http()
+    }
+}
+
+/// The client's deadline from a `grpc-timeout` header: at most 8 digits and a unit, `H`, `M`,
+/// `S`, `m`, `u` or `n` (gRPC over HTTP/2, doc/PROTOCOL-HTTP2.md of the gRPC project). A missing
+/// or malformed header sets no deadline, as in tonic.
+fn client_timeout(headers: &http::HeaderMap) -> Option<Duration> {
+    let value = headers.get("grpc-timeout")?.to_str().ok()?;
+    let digits = value.get(..value.len().checked_sub(1)?)?;
+    if digits.is_empty() || digits.len() > 8 || !digits.bytes().all(|b| b.is_ascii_digit()) {
+        return None;
+    }
+    let amount: u64 = digits.parse().ok()?;
+    Some(match value.as_bytes()[value.len() - 1] {
+        b'H' => Duration::from_secs(amount * 3600),
+        b'M' => Duration::from_secs(amount * 60),
+        b'S' => Duration::from_secs(amount),
+        b'm' => Duration::from_millis(amount),
+        b'u' => Duration::from_micros(amount),
+        b'n' => Duration::from_nanos(amount),
+        _ => return None,
+    })
 }
 
 impl<S> tower::Layer<S> for AdmissionLayer {
@@ -101,7 +162,7 @@ where
             return Box::pin(self.inner.call(request));
         }
         let slots = Arc::clone(&self.layer.slots);
-        let timeout = self.layer.timeout;
+        let (limit, deadline) = TimeLimit::for_call(request.headers(), self.layer.timeout);
         if self.layer.shed {
             let Ok(slot) = slots.try_acquire_owned() else {
                 crate::metrics::record_shed();
@@ -114,16 +175,16 @@ where
             };
             let answer = self.inner.call(request);
             return Box::pin(async move {
-                let response = tokio::time::timeout(timeout, answer).await;
+                let response = tokio::time::timeout_at(deadline, answer).await;
                 drop(slot);
-                response.unwrap_or_else(|_| Ok(deadline_exceeded(timeout)))
+                response.unwrap_or_else(|_| Ok(limit.exceeded()))
             });
         }
         // Queue for a slot; the wait counts against the timeout.
         let inner = self.inner.clone();
         let mut inner = std::mem::replace(&mut self.inner, inner);
         Box::pin(async move {
-            let admitted = tokio::time::timeout(timeout, async move {
+            let admitted = tokio::time::timeout_at(deadline, async move {
                 let Ok(slot) = slots.acquire_owned().await else {
                     return Ok(Status::unavailable("server is shutting down").into_http());
                 };
@@ -131,9 +192,7 @@ where
                 drop(slot);
                 response
             });
-            admitted
-                .await
-                .unwrap_or_else(|_| Ok(deadline_exceeded(timeout)))
+            admitted.await.unwrap_or_else(|_| Ok(limit.exceeded()))
         })
     }
 }
@@ -192,6 +251,27 @@ pub(crate) fn bound_status(headers: &mut http::HeaderMap) {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// `grpc-timeout` values as gRPC over HTTP/2 defines them (doc/PROTOCOL-HTTP2.md of the gRPC
+    /// project: at most 8 digits, then one of H M S m u n); anything else sets no deadline.
+    #[test]
+    fn client_deadlines_are_read_from_grpc_timeout() {
+        let read = |value: &str| {
+            let mut headers = http::HeaderMap::new();
+            headers.insert("grpc-timeout", value.parse().expect("header value"));
+            client_timeout(&headers)
+        };
+        assert_eq!(read("20m"), Some(Duration::from_millis(20)));
+        assert_eq!(read("2H"), Some(Duration::from_secs(7200)));
+        assert_eq!(read("3M"), Some(Duration::from_secs(180)));
+        assert_eq!(read("1S"), Some(Duration::from_secs(1)));
+        assert_eq!(read("20000u"), Some(Duration::from_millis(20)));
+        assert_eq!(read("99999999n"), Some(Duration::from_nanos(99_999_999)));
+        for malformed in ["", "m", "20", "123456789m", "-5m", "5 m", "5x", "1.5S"] {
+            assert_eq!(read(malformed), None, "{malformed:?}");
+        }
+        assert_eq!(client_timeout(&http::HeaderMap::new()), None);
+    }
 
     #[test]
     fn long_status_messages_are_cut_and_short_ones_kept() {

@@ -3,6 +3,7 @@
 
 use std::sync::Arc;
 
+use binodal_eos::SolvePath;
 use binodal_fluids::normalize;
 use binodal_proto::v1 as pb;
 use binodal_proto::v1::phase_service_server::PhaseService;
@@ -35,16 +36,23 @@ impl PhaseApi {
     }
 }
 
-/// Checks that a numeric request field is finite.
+/// Checks that a numeric request field is finite; the message says what is valid (the model's
+/// own range is checked, and named, once the value is a number).
 fn finite(field: &str, value: f64) -> Result<f64, ServiceError> {
     if value.is_finite() {
-        Ok(value)
-    } else {
-        Err(ServiceError::field(
-            field,
-            format!("{value} is not a finite number"),
-        ))
+        return Ok(value);
     }
+    let valid = if field.ends_with("_k") {
+        "a finite temperature in kelvin, above 0 K and within the model's range for the fluid"
+    } else if field.ends_with("_pa") {
+        "a finite absolute pressure in pascal, above 0 Pa and within the model's range for the fluid"
+    } else {
+        "a finite number"
+    };
+    Err(ServiceError::field(
+        field,
+        format!("{value} is not a finite number; valid: {valid}"),
+    ))
 }
 
 fn state_batch(
@@ -179,7 +187,7 @@ fn mixture_batch(choice: &MixtureChoice, ts: &[f64], ps: &[f64]) -> pb::GetState
         out.estimated.push(r.estimated);
         out.near_critical.push(r.near_critical);
         out.paths.push(if ok {
-            pb::ComputationPath::FullSolve as i32
+            r.path
         } else {
             pb::ComputationPath::Unspecified as i32
         });
@@ -195,21 +203,22 @@ fn mixture_saturation(
 ) -> Result<pb::GetSaturationResponse, ServiceError> {
     use pb::get_saturation_request::Condition;
     let m = &choice.mixture;
-    let (bubble, dew, glide) = match condition {
+    // The glide's own path where it needs a value besides the two points.
+    let (bubble, dew, glide, glide_path) = match condition {
         Some(Condition::TemperatureK(t)) => {
             let t = finite("temperature_k", t)?;
             let bubble = m.bubble_at_temperature(t)?;
             let dew = m.dew_at_temperature(t)?;
             // Glide at the bubble pressure found for this temperature.
-            let glide = m.dew_at_pressure(bubble.pressure_pa)?.temperature_k - t;
-            (bubble, dew, glide)
+            let (dew_t, path) = m.dew_temperature(bubble.pressure_pa)?;
+            (bubble, dew, dew_t - t, Some(path))
         }
         Some(Condition::PressurePa(p)) => {
             let p = finite("pressure_pa", p)?;
             let bubble = m.bubble_at_pressure(p)?;
             let dew = m.dew_at_pressure(p)?;
             let glide = dew.temperature_k - bubble.temperature_k;
-            (bubble, dew, glide)
+            (bubble, dew, glide, None)
         }
         None => {
             return Err(ServiceError::field(
@@ -218,7 +227,19 @@ fn mixture_saturation(
             ));
         }
     };
-    Ok(convert::mixture_saturation(&bubble, &dew, glide, choice))
+    // The answer comes from the lines only if every part of it did.
+    let path = if [Some(bubble.path), Some(dew.path), glide_path]
+        .into_iter()
+        .flatten()
+        .all(|p| p == SolvePath::Curve)
+    {
+        SolvePath::Curve
+    } else {
+        SolvePath::FullSolve
+    };
+    Ok(convert::mixture_saturation(
+        &bubble, &dew, glide, path, choice,
+    ))
 }
 
 #[tonic::async_trait]
@@ -391,8 +412,10 @@ impl PhaseService for PhaseApi {
             });
             answer
                 .await
-                .map_err(|_| Status::internal("batch worker stopped without an answer"))?
-                .map_err(|_| Status::internal("batch worker failed"))?
+                .map_err(|_| {
+                    ServiceError::Internal("batch worker stopped without an answer".into())
+                })?
+                .map_err(|_| ServiceError::Internal("batch worker failed".into()))?
         } else {
             state_batch(&self.engines, &request, limit)
         };

@@ -22,7 +22,7 @@ const ENV_PREFIX: &str = "BINODAL";
 const ENV_SECTION_SEPARATOR: &str = "__";
 
 /// Every settings key, as written in the TOML file (section and key joined by a dot).
-pub const SETTING_KEYS: [&str; 25] = [
+pub const SETTING_KEYS: [&str; 26] = [
     "listen_address",
     "default_equation_of_state",
     "default_reference_state",
@@ -47,6 +47,7 @@ pub const SETTING_KEYS: [&str; 25] = [
     "alarms.stale_after_s",
     "alarms.default_ambient_pressure_pa",
     "alarms.max_tags_per_stream",
+    "alarms.max_streams",
     "alarms.tags",
 ];
 

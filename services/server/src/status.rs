@@ -6,8 +6,8 @@
 //! | the fluid name is unknown | NOT_FOUND (the message lists the closest names) |
 //! | a temperature or pressure outside the model's range, in the near-critical band, or outside a mixture's two-phase envelope | OUT_OF_RANGE (with a `BadRequest` field violation) |
 //! | the fluid lacks data for the quantity (e.g. no ideal-gas heat capacity) | FAILED_PRECONDITION |
-//! | a capability that is not built yet (mixtures) | UNIMPLEMENTED |
-//! | a solver that did not converge | INTERNAL (a defect: the message names the solve) |
+//! | a server-wide limit reached (open alarm streams) | RESOURCE_EXHAUSTED (the message names the setting) |
+//! | a solver that did not converge, or a worker thread that failed | INTERNAL (a defect: the message names the solve or the worker) |
 
 use binodal_eos::ErrorKind;
 use binodal_fluids::LookupError;
@@ -29,8 +29,11 @@ pub enum ServiceError {
     /// The engine refused or failed; `field_prefix` locates the engine's field in the
     /// request (e.g. `temperatures_k[3]`), empty for a top-level field.
     Engine(binodal_eos::Error),
-    /// A capability that is not built yet.
-    Unimplemented(String),
+    /// A server-wide limit on long-lived resources is reached (e.g. open alarm streams); the
+    /// message names the setting.
+    LimitReached(String),
+    /// A defect inside the server (a worker thread that stopped without an answer).
+    Internal(String),
 }
 
 impl ServiceError {
@@ -90,7 +93,8 @@ impl From<ServiceError> for Status {
                     None => Status::new(code, e.to_string()),
                 }
             }
-            ServiceError::Unimplemented(what) => Status::unimplemented(what),
+            ServiceError::LimitReached(what) => Status::resource_exhausted(what),
+            ServiceError::Internal(what) => Status::internal(what),
         }
     }
 }

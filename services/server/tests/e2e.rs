@@ -132,17 +132,31 @@ async fn shutdown_reports_not_serving_then_returns() {
         .expect("a first health update")
         .expect("first update is not an error");
     assert_eq!(status_of(&first), ServingStatus::Serving);
+    let mut alarm_updates = health
+        .watch(health_request("binodal.v1.AlarmService"))
+        .await
+        .expect("watch the alarm service's health")
+        .into_inner();
+    let first = alarm_updates
+        .next()
+        .await
+        .expect("a first alarm-service health update")
+        .expect("first update is not an error");
+    assert_eq!(status_of(&first), ServingStatus::Serving);
 
     server.begin_shutdown();
-    let next = tokio::time::timeout(STOP_GUARD, updates.next())
-        .await
-        .expect("a health update after shutdown began")
-        .expect("the watch stream stays open while draining")
-        .expect("update is not an error");
-    assert_eq!(status_of(&next), ServingStatus::NotServing);
+    for updates in [&mut updates, &mut alarm_updates] {
+        let next = tokio::time::timeout(STOP_GUARD, updates.next())
+            .await
+            .expect("a health update after shutdown began")
+            .expect("the watch stream stays open while draining")
+            .expect("update is not an error");
+        assert_eq!(status_of(&next), ServingStatus::NotServing);
+    }
 
-    // The watch is an in-flight call: the server waits for it. Ending it lets the server return.
+    // The watches are in-flight calls: the server waits for them. Ending them lets it return.
     drop(updates);
+    drop(alarm_updates);
     drop(health);
     server.stop().await;
 }

@@ -133,6 +133,32 @@ pub fn run_bare(args: &[&str]) -> Run {
     finish(command.spawn().expect("start binodal"))
 }
 
+/// Runs `binodal --server <test server> ARGS...` with `input` on its standard input. The input
+/// is written from a thread of its own and the pipe is closed after it, so the command sees the
+/// end of its input as it would at the end of a shell pipe.
+#[allow(dead_code, reason = "used by tests/watch.rs, not by every test binary")]
+pub fn run_with_stdin(args: &[&str], input: &str) -> Run {
+    let mut command = binodal();
+    command
+        .arg("--server")
+        .arg(server_url())
+        .args(args)
+        .stdin(Stdio::piped());
+    let mut child = command.spawn().expect("start binodal");
+    let mut stdin = child.stdin.take().expect("a standard input pipe");
+    let input = input.to_owned();
+    let writer = std::thread::spawn(move || {
+        use std::io::Write as _;
+        // A command that stops reading early closes the pipe; that is its business, not a
+        // failure of the test's writer.
+        stdin.write_all(input.as_bytes()).ok();
+        // Dropping `stdin` closes the pipe.
+    });
+    let run = finish(child);
+    writer.join().expect("standard input writer");
+    run
+}
+
 /// Waits for a started run, at most [`RUN_GUARD`]; the child is killed and the test fails after.
 pub fn finish(mut child: Child) -> Run {
     let mut stdout = child.stdout.take();

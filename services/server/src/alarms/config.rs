@@ -6,6 +6,7 @@
 //! stale_after_s = 10.0
 //! default_ambient_pressure_pa = 101325.0
 //! max_tags_per_stream = 100000
+//! max_streams = 64
 //!
 //! [[alarms.tags]]
 //! tag = "NH3-P101"          # exact, or a prefix ending in `*` such as "CO2-RK2-*"
@@ -31,6 +32,12 @@ pub const MAX_STALE_AFTER_S: f64 = 86_400.0;
 pub const DEFAULT_MAX_TAGS_PER_STREAM: usize = 100_000;
 /// Largest accepted tag limit.
 pub const MAX_TAGS_PER_STREAM: u64 = 10_000_000;
+/// Default largest number of alarm streams open at once on the server: a few dashboards with
+/// room to spare; every stream holds its tags' state in memory (common practice: bound every
+/// long-lived resource a client can open).
+pub const DEFAULT_MAX_STREAMS: usize = 64;
+/// Largest accepted stream limit.
+pub const MAX_STREAMS: u64 = 100_000;
 
 /// Which tags a settings entry applies to.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -82,6 +89,8 @@ pub struct AlarmSettings {
     pub default_ambient_pressure_pa: f64,
     /// Largest number of tags one stream tracks (`alarms.max_tags_per_stream`).
     pub max_tags_per_stream: usize,
+    /// Largest number of alarm streams open at once on the server (`alarms.max_streams`).
+    pub max_streams: usize,
     /// Rules per tag (`alarms.tags`).
     pub tags: Vec<TagRules>,
 }
@@ -92,6 +101,7 @@ impl Default for AlarmSettings {
             stale_after_ms: (DEFAULT_STALE_AFTER_S * 1000.0) as i64,
             default_ambient_pressure_pa: STANDARD_ATMOSPHERE_PA,
             max_tags_per_stream: DEFAULT_MAX_TAGS_PER_STREAM,
+            max_streams: DEFAULT_MAX_STREAMS,
             tags: Vec::new(),
         }
     }
@@ -123,6 +133,7 @@ impl AlarmSettings {
             stale_after_s: self.stale_after_ms as f64 / 1000.0,
             default_ambient_pressure_pa: self.default_ambient_pressure_pa,
             max_tags_per_stream: self.max_tags_per_stream as u64,
+            max_streams: self.max_streams as u64,
             tags: self
                 .tags
                 .iter()
@@ -174,6 +185,13 @@ impl AlarmSettings {
                 format!("an integer from 1 to {MAX_TAGS_PER_STREAM}"),
             ));
         }
+        if !(1..=MAX_STREAMS).contains(&raw.max_streams) {
+            return Err(InvalidAlarmSetting::new(
+                "alarms.max_streams",
+                raw.max_streams,
+                format!("an integer from 1 to {MAX_STREAMS}"),
+            ));
+        }
         let mut tags: Vec<TagRules> = Vec::with_capacity(raw.tags.len());
         for (index, entry) in raw.tags.into_iter().enumerate() {
             let at = format!("alarms.tags[{index}]");
@@ -215,6 +233,7 @@ impl AlarmSettings {
             stale_after_ms: (stale * 1000.0).round() as i64,
             default_ambient_pressure_pa: ambient,
             max_tags_per_stream: raw.max_tags_per_stream as usize,
+            max_streams: raw.max_streams as usize,
             tags,
         })
     }
@@ -248,8 +267,14 @@ pub(crate) struct RawAlarms {
     stale_after_s: f64,
     default_ambient_pressure_pa: f64,
     max_tags_per_stream: u64,
+    #[serde(default = "default_max_streams")]
+    max_streams: u64,
     #[serde(default)]
     tags: Vec<RawTag>,
+}
+
+fn default_max_streams() -> u64 {
+    DEFAULT_MAX_STREAMS as u64
 }
 
 /// One `[[alarms.tags]]` entry as read.

@@ -34,6 +34,8 @@ pub struct AlarmApi {
     settings: Arc<AlarmSettings>,
     max_batch_length: usize,
     stop: watch::Receiver<bool>,
+    /// One permit per open stream (`alarms.max_streams`).
+    streams: Arc<tokio::sync::Semaphore>,
 }
 
 /// Ends every open alarm stream when the server shuts down (see [`AlarmStop::stop`]).
@@ -57,7 +59,9 @@ impl AlarmApi {
         max_batch_length: usize,
     ) -> anyhow::Result<(AlarmApi, AlarmStop)> {
         for (index, entry) in settings.tags.iter().enumerate() {
-            if let Some(fluid) = &entry.fluid {
+            if let Some(fluid) = &entry.fluid
+                && engines.catalogue().blend(fluid).is_none()
+            {
                 engines.catalogue().get(fluid).with_context(|| {
                     format!(
                         "setting `alarms.tags[{index}].fluid` = {fluid:?} (tag {})",
@@ -73,6 +77,7 @@ impl AlarmApi {
                 settings: Arc::new(settings.clone()),
                 max_batch_length,
                 stop,
+                streams: Arc::new(tokio::sync::Semaphore::new(settings.max_streams)),
             },
             AlarmStop(sender),
         ))
@@ -83,11 +88,12 @@ impl AlarmApi {
     }
 
     /// Serves one stream until the client closes it, the client goes away, the opening is
-    /// invalid, or the server shuts down.
+    /// invalid, or the server shuts down. `slot` is the stream's permit of `alarms.max_streams`.
     async fn serve_stream(
         self,
         mut inbound: Streaming<pb::WatchRequest>,
         responses: mpsc::Sender<Result<pb::WatchResponse, Status>>,
+        slot: tokio::sync::OwnedSemaphorePermit,
     ) {
         let mut stop = self.stop.clone();
         let mut session: Option<Session> = None;
@@ -139,9 +145,10 @@ impl AlarmApi {
                     }
                     Err(error) => {
                         let _ = responses
-                            .send(Err(Status::internal(format!(
+                            .send(Err(ServiceError::Internal(format!(
                                 "alarm stream worker failed: {error}"
-                            ))))
+                            ))
+                            .into()))
                             .await;
                         break;
                     }
@@ -161,6 +168,10 @@ impl AlarmApi {
             tags = session.as_ref().map_or(0, Session::tag_count),
             "alarm stream closed"
         );
+        // The slot is free before `responses` is dropped, which ends the stream for the client:
+        // a client that opens a new stream once it has seen the end is never refused for it.
+        drop(slot);
+        drop(responses);
     }
 }
 
@@ -179,11 +190,19 @@ impl AlarmService for AlarmApi {
         &self,
         request: Request<Streaming<pb::WatchRequest>>,
     ) -> Result<Response<Self::WatchReadingsStream>, Status> {
+        let Ok(permit) = Arc::clone(&self.streams).try_acquire_owned() else {
+            return Err(ServiceError::LimitReached(format!(
+                "{} alarm streams are open, the server's limit (setting alarms.max_streams); \
+                 close a stream or retry later",
+                self.settings.max_streams
+            ))
+            .into());
+        };
         let inbound = request.into_inner();
         let (sender, receiver) = mpsc::channel(RESPONSE_QUEUE);
         tokio::spawn(
             self.clone()
-                .serve_stream(inbound, sender)
+                .serve_stream(inbound, sender, permit)
                 .instrument(tracing::Span::current()),
         );
         Ok(Response::new(ReceiverStream::new(receiver)))
@@ -212,7 +231,7 @@ impl AlarmService for AlarmApi {
         let response = if count >= BLOCKING_READINGS {
             tokio::task::spawn_blocking(compute)
                 .await
-                .map_err(|e| Status::internal(format!("evaluation worker failed: {e}")))?
+                .map_err(|e| ServiceError::Internal(format!("evaluation worker failed: {e}")))?
         } else {
             compute()
         };

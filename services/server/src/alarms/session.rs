@@ -147,6 +147,8 @@ pub enum QualityIssue {
     TagMissing,
     /// No timestamp.
     TimestampMissing,
+    /// Timestamp before 1970 or after year 9999.
+    TimestampInvalid,
     /// Earlier than the tag's previous reading.
     TimestampOutOfOrder,
     /// Same time as the tag's previous reading.
@@ -396,6 +398,10 @@ fn display_tag(tag: &str) -> &str {
     if tag.is_empty() { "(no tag)" } else { tag }
 }
 
+/// The last valid reading time, 9999-12-31T23:59:59.999Z in milliseconds since 1970: every
+/// sum of a reading time and a stream duration stays far from overflow.
+pub const LAST_TIMESTAMP_MS: i64 = 253_402_300_799_999;
+
 /// Formats a time in ms since the Unix epoch as `2026-01-15T06:00:15Z` (with `.250` when it has
 /// milliseconds), proleptic Gregorian calendar, UTC.
 pub fn format_time(ms: i64) -> String {
@@ -571,7 +577,7 @@ impl Evaluator {
             Some(p) if !p.is_finite() => {
                 problems.push(Problem::new(
                     QualityIssue::PressureInvalid,
-                    format!("pressure_pa: {p} is not a finite number"),
+                    format!("pressure_pa: {p} is not a finite number; give a finite pressure in Pa, above zero once absolute"),
                 ));
                 None
             }
@@ -875,11 +881,17 @@ fn service_problem(error: ServiceError) -> Problem {
     match error {
         ServiceError::Engine(e) => engine_problem(&e),
         ServiceError::UnknownFluid(e) => Problem::new(QualityIssue::FluidUnknown, e.to_string()),
+        // Fields of the fluid selector (a custom mixture's components and fractions).
+        ServiceError::InvalidField { field, message } if field.starts_with("fluid") => {
+            Problem::new(QualityIssue::MixtureInvalid, format!("{field}: {message}"))
+        }
         ServiceError::InvalidField { field, message } => Problem::new(
             QualityIssue::CalculationFailed,
             format!("{field}: {message}"),
         ),
-        ServiceError::Unimplemented(what) => Problem::new(QualityIssue::MixtureInvalid, what),
+        ServiceError::Internal(what) | ServiceError::LimitReached(what) => {
+            Problem::new(QualityIssue::CalculationFailed, what)
+        }
     }
 }
 
@@ -1240,6 +1252,18 @@ impl Session {
             ));
             return outcome;
         };
+        if !(0..=LAST_TIMESTAMP_MS).contains(&time_ms) {
+            tag.interrupt();
+            outcome.problem(Problem::new(
+                QualityIssue::TimestampInvalid,
+                format!(
+                    "timestamp_unix_ms: {time_ms} is outside the valid range 0 \
+                     (1970-01-01T00:00:00Z) to {LAST_TIMESTAMP_MS} (9999-12-31T23:59:59.999Z) \
+                     milliseconds; this reading is ignored"
+                ),
+            ));
+            return outcome;
+        }
         if let Some(last) = tag.last_ms {
             if time_ms < last {
                 outcome.problem(Problem::new(
@@ -1405,7 +1429,12 @@ fn tag_fluid(
                  tag keeps one fluid per stream: open a new stream to change it"
             ),
         )),
-        _ => {
+        earlier => {
+            // A custom mixture is only fully checked when it is built: build it before the tag
+            // keeps it, so that a refused mixture does not tie the tag to it.
+            if earlier.is_none() && id.starts_with(MIXTURE_KEY) {
+                evaluator.mixture_from_key(&id)?;
+            }
             tag.fluid_id = Some(id.clone());
             if let FluidChoice::Named(name) = &reading.fluid {
                 tag.fluid_given = Some(name.clone());

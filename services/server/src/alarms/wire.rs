@@ -120,6 +120,7 @@ fn quality_to_proto(issue: QualityIssue) -> pb::QualityIssue {
         Q::UncertainQualityFlag => pb::QualityIssue::UncertainQualityFlag,
         Q::TagMissing => pb::QualityIssue::TagMissing,
         Q::TimestampMissing => pb::QualityIssue::TimestampMissing,
+        Q::TimestampInvalid => pb::QualityIssue::TimestampInvalid,
         Q::TimestampOutOfOrder => pb::QualityIssue::TimestampOutOfOrder,
         Q::DuplicateTimestamp => pb::QualityIssue::DuplicateTimestamp,
         Q::FluidMissing => pb::QualityIssue::FluidMissing,
@@ -244,10 +245,13 @@ pub fn setup(
         }
         let fluid = fluid_choice(tag.fluid.as_ref());
         if let FluidChoice::Named(name) = &fluid {
-            engines
-                .catalogue()
-                .get(name)
-                .map_err(|e| ServiceError::field(format!("{at}.fluid"), e.to_string()))?;
+            // A catalogue blend or a catalogue fluid.
+            let catalogue = engines.catalogue();
+            if catalogue.blend(name).is_none() {
+                catalogue
+                    .get(name)
+                    .map_err(|e| ServiceError::field(format!("{at}.fluid"), e.to_string()))?;
+            }
         }
         let setup = TagSetup {
             fluid,

@@ -1,8 +1,9 @@
 //! Admission limits: the concurrency limit with load shedding or queueing, the request timeout,
 //! and the per-connection stream limit, each seen from a client.
 //!
-//! The slow call in these tests is a batch of 2 000 states of the blend R-407C: long enough that
-//! a short call sent meanwhile finds the only slot taken. No test asserts how long anything takes.
+//! The slow call in these tests is a batch of 2 000 states of a custom mixture of R-407C's
+//! composition (`slow_mixture`: no precomputed lines, every state solved): long enough that a
+//! short call sent meanwhile finds the only slot taken. No test asserts how long anything takes.
 
 use binodal_proto::v1 as pb;
 use binodal_proto::v1::phase_service_client::PhaseServiceClient;
@@ -13,7 +14,7 @@ use tonic::transport::Channel;
 use tonic_health::pb::HealthCheckRequest;
 use tonic_health::pb::health_client::HealthClient;
 
-use crate::cases::fluid;
+use crate::cases::{fluid, slow_mixture};
 use crate::util::TestServer;
 
 /// Points in the slow batch. A blend's states go through bubble- and dew-point solves (no
@@ -21,10 +22,10 @@ use crate::util::TestServer;
 /// about a second whatever the machine's speed.
 const SLOW_POINTS: usize = 2_000;
 
-/// A batch of `points` states of the blend R-407C between 200 K and 400 K at 1 bar.
+/// A batch of `points` states of the R-407C-like custom mixture between 200 K and 400 K at 1 bar.
 fn slow_batch(points: usize) -> pb::GetStateBatchRequest {
     pb::GetStateBatchRequest {
-        fluid: fluid("R-407C"),
+        fluid: slow_mixture(),
         temperatures_k: (0..points)
             .map(|i| 200.0 + 200.0 * i as f64 / points as f64)
             .collect(),
@@ -154,7 +155,7 @@ async fn a_call_over_the_request_timeout_gets_deadline_exceeded() {
     let status = client
         .get_state_batch(slow_batch(SLOW_POINTS))
         .await
-        .expect_err("100 000 points do not fit in 1 ms");
+        .expect_err("the slow batch does not fit in 1 ms");
     assert_eq!(status.code(), Code::DeadlineExceeded, "{status:?}");
     assert!(
         status.message().contains("limits.request_timeout_ms"),

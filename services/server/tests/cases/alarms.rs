@@ -9,7 +9,8 @@
 
 use std::time::Duration;
 
-use binodal_eos::{Model, ReferenceState};
+use binodal_eos::{Model, Phase as EosPhase, ReferenceState};
+use binodal_fluids::Catalogue;
 use binodal_proto::v1 as pb;
 use binodal_proto::v1::alarm_service_client::AlarmServiceClient;
 use binodal_server::alarms::config::{TagPattern, TagRules};
@@ -317,6 +318,20 @@ async fn stream_margins_agree_with_get_state() {
             &format!("{tag} P/Pc"),
             m.critical_pressure_fraction,
             state.reduced_pressure,
+        );
+        // Pc - P with the catalogue's critical pressure (carbon dioxide 7.38 MPa, ammonia
+        // 11.303 MPa: the critical-property compilation of Biswas et al. 2023, source key
+        // `crit-compilation`; water 22.064 MPa: IAPWS-95 via NIST SRD 69, source key
+        // `iapws95-nist-srd69`; all in crates/fluids/data/inorganic.toml).
+        let pc = Catalogue::builtin()
+            .get(name)
+            .expect("catalogue fluid")
+            .constants
+            .critical_pressure_pa;
+        assert_same(
+            &format!("{tag} Pc - P"),
+            m.pressure_below_critical_pa,
+            pc - p,
         );
         assert_eq!(outcome.near_critical, state.near_critical, "{tag}");
         assert_eq!(outcome.estimated, state.estimated, "{tag}");
@@ -852,5 +867,664 @@ async fn streams_outlive_the_request_timeout_and_end_on_shutdown() {
     assert_eq!(status.code(), Code::Unavailable, "{status:?}");
     assert!(status.message().contains("shutting down"), "{status:?}");
     drop(watch);
+    server.stop().await;
+}
+
+/// The quality issues of an outcome's events, in order.
+fn quality_issues(outcome: &pb::ReadingOutcome) -> Vec<pb::QualityIssue> {
+    outcome
+        .events
+        .iter()
+        .filter(|e| kind_of(e) == pb::AlarmEventKind::Quality)
+        .map(|e| pb::QualityIssue::try_from(e.quality_issue).expect("known issue"))
+        .collect()
+}
+
+/// The message of an outcome's first quality event.
+fn quality_message(outcome: &pb::ReadingOutcome) -> &str {
+    outcome
+        .events
+        .iter()
+        .find(|e| kind_of(e) == pb::AlarmEventKind::Quality)
+        .map(|e| e.message.as_str())
+        .unwrap_or_else(|| panic!("no quality event: {outcome:#?}"))
+}
+
+/// A reading of a custom mixture `(component, fraction)` by mass.
+fn mixture_reading(tag: &str, seconds: i64, parts: &[(&str, f64)]) -> pb::Reading {
+    let mut r = reading(tag, "R-410A", seconds, 283.15, 8.0e5);
+    r.fluid = Some(pb::FluidSelector {
+        choice: Some(pb::fluid_selector::Choice::Mixture(pb::Mixture {
+            components: parts
+                .iter()
+                .map(|&(name, fraction)| pb::MixtureComponent {
+                    fluid: name.into(),
+                    fraction,
+                })
+                .collect(),
+            fraction_basis: pb::FractionBasis::Mass as i32,
+        })),
+    });
+    r
+}
+
+/// A catalogue blend is a valid tag fluid in a stream opening and in the server's
+/// `alarms.tags[].fluid` setting: readings that name no fluid are evaluated as R-407C, with the
+/// same fluid id and margins as GetState gives for R-407C at the same state.
+#[tokio::test]
+async fn a_blend_is_a_tag_fluid_in_the_opening_and_the_settings() {
+    let mut settings = Settings::default();
+    settings.alarms.tags = vec![TagRules {
+        pattern: TagPattern::Exact("KL-CH2-SUC".to_owned()),
+        fluid: Some("R-407C".to_owned()),
+        rules: Vec::new(),
+    }];
+    let server = TestServer::start_with(settings).await;
+    let mut phase = phase_client(&server).await;
+    let mut watch = Watch::open(
+        &server,
+        Some(pb::WatchOpening {
+            tags: vec![pb::TagSetup {
+                tag: "KL-CH2-LIQ".to_owned(),
+                fluid: fluid("R-407C"),
+                rules: Vec::new(),
+            }],
+            ..Default::default()
+        }),
+    )
+    .await;
+    // (tag, T in K, P in Pa absolute): a suction vapor and a liquid line (the scripts' inputs;
+    // R-407C's dew point at 0.4 MPa is near 270 K and its bubble point at 2.0 MPa near 318 K,
+    // `from memory`: the test compares with GetState and needs only each margin present).
+    let cases = [("KL-CH2-SUC", 283.15, 4.0e5), ("KL-CH2-LIQ", 303.15, 2.0e6)];
+    let readings: Vec<pb::Reading> = cases
+        .iter()
+        .map(|&(tag, t, p)| {
+            let mut r = reading(tag, "R-407C", 0, t, p);
+            r.fluid = None; // the settings or the opening name the blend
+            r
+        })
+        .collect();
+    let response = watch.send(readings).await;
+    for (outcome, &(tag, t, p)) in response.outcomes.iter().zip(&cases) {
+        assert!(outcome.evaluated, "{tag}: {outcome:#?}");
+        let state = phase
+            .get_state(pb::GetStateRequest {
+                fluid: fluid("R-407C"),
+                temperature_k: t,
+                pressure_pa: p,
+                ..Default::default()
+            })
+            .await
+            .expect("GetState of R-407C")
+            .into_inner();
+        assert_eq!(
+            outcome.fluid_id,
+            state.basis.as_ref().expect("basis").fluid_id,
+            "{tag}"
+        );
+        assert_eq!(outcome.phase, state.phase, "{tag}");
+        let m = outcome.margins.as_ref().expect("margins");
+        let s = state.margins.as_ref().expect("GetState margins");
+        for (what, stream, state) in [
+            ("subcooling", m.subcooling_k, s.subcooling_k),
+            ("superheat", m.superheat_k, s.superheat_k),
+        ] {
+            assert_eq!(stream.is_some(), state.is_some(), "{tag} {what}");
+            if let (Some(a), Some(b)) = (stream, state) {
+                assert_same(&format!("{tag} {what}"), a, b);
+            }
+        }
+    }
+    // The suction is superheated and the liquid line subcooled, so each comparison above
+    // compared a number, not two absences.
+    let margins = |i: usize| response.outcomes[i].margins.expect("margins");
+    assert!(margins(0).superheat_k.is_some());
+    assert!(margins(1).subcooling_k.is_some());
+    server.stop().await;
+}
+
+/// 9999-12-31T23:59:59.999Z in ms since 1970-01-01T00:00:00Z, the last valid reading time of
+/// alarms.proto (QUALITY_ISSUE_TIMESTAMP_INVALID); computed independently with Python's
+/// `datetime(9999, 12, 31, 23, 59, 59, 999000, tzinfo=timezone.utc).timestamp()`.
+const LAST_VALID_MS: i64 = 253_402_300_799_999;
+
+/// Timestamps outside 1970-01-01 to 9999-12-31 (the extremes of the field's type, and one
+/// millisecond before 1970) get TIMESTAMP_INVALID, are not evaluated, and neither end the stream
+/// nor disturb the tag: a normal reading after them on the same tag is evaluated. Both ends of
+/// the valid range are accepted.
+#[tokio::test]
+async fn out_of_range_timestamps_are_quality_events_and_the_stream_goes_on() {
+    let server = TestServer::start().await;
+    let mut watch = Watch::open(&server, None).await;
+    let at = |ms: i64| {
+        let mut r = reading("NH3-P101", "R-717", 0, 250.0, 3.0e5);
+        r.timestamp_unix_ms = Some(ms);
+        r
+    };
+    let response = watch
+        .send(vec![at(i64::MAX), at(i64::MIN), at(-1), at(T0)])
+        .await;
+    for (index, ms) in [i64::MAX, i64::MIN, -1].into_iter().enumerate() {
+        let outcome = &response.outcomes[index];
+        assert_eq!(
+            quality_issues(outcome),
+            [pb::QualityIssue::TimestampInvalid],
+            "{ms}: {outcome:#?}"
+        );
+        assert!(!outcome.evaluated, "{ms}");
+        let message = quality_message(outcome);
+        assert!(message.contains("timestamp_unix_ms"), "{message}");
+        assert!(message.contains(&ms.to_string()), "{message}");
+        assert!(
+            message.contains("9999-12-31T23:59:59.999Z"),
+            "the message gives the valid range: {message}"
+        );
+    }
+    let normal = &response.outcomes[3];
+    assert!(normal.evaluated, "{normal:#?}");
+    assert!(quality_issues(normal).is_empty(), "{normal:#?}");
+    assert_eq!(normal.phase, pb::Phase::SubcooledLiquid as i32);
+
+    // A request of its own after them, on the same tag, one second later: still evaluated.
+    let later = watch
+        .send(vec![reading("NH3-P101", "R-717", 1, 250.0, 3.0e5)])
+        .await;
+    assert!(later.outcomes[0].evaluated, "{:#?}", later.outcomes[0]);
+
+    // The ends of the range: one past the last is refused, 0 and the last are evaluated.
+    let edge = |ms: i64| {
+        let mut r = reading("EDGE", "R-717", 0, 250.0, 3.0e5);
+        r.timestamp_unix_ms = Some(ms);
+        r
+    };
+    let response = watch
+        .send(vec![edge(LAST_VALID_MS + 1), edge(0), edge(LAST_VALID_MS)])
+        .await;
+    assert_eq!(
+        quality_issues(&response.outcomes[0]),
+        [pb::QualityIssue::TimestampInvalid]
+    );
+    assert!(
+        response.outcomes[1].evaluated,
+        "{:#?}",
+        response.outcomes[1]
+    );
+    assert!(
+        response.outcomes[2].evaluated,
+        "{:#?}",
+        response.outcomes[2]
+    );
+    server.stop().await;
+}
+
+/// Invalid custom mixtures in readings get MIXTURE_INVALID naming the component, on the stream
+/// and in the unary form: a component listed twice, and a catalogue blend given as a component.
+/// The tag is not tied to the refused mixture: a valid one afterwards is evaluated.
+#[tokio::test]
+async fn invalid_custom_mixtures_get_mixture_invalid() {
+    let server = TestServer::start().await;
+    let twice = |tag: &str, s: i64| mixture_reading(tag, s, &[("R-32", 0.5), ("R-32", 0.5)]);
+    let blend = |tag: &str, s: i64| mixture_reading(tag, s, &[("R-410A", 0.5), ("R-32", 0.5)]);
+    // 50/50 by mass, R-410A's nominal composition (ASHRAE 34, catalogue entry marked
+    // `from memory`): a valid mixture.
+    let valid = |tag: &str, s: i64| mixture_reading(tag, s, &[("R-32", 0.5), ("R-125", 0.5)]);
+    let check = |outcome: &pb::ReadingOutcome, fragments: &[&str]| {
+        assert_eq!(
+            quality_issues(outcome),
+            [pb::QualityIssue::MixtureInvalid],
+            "{outcome:#?}"
+        );
+        assert!(!outcome.evaluated);
+        let message = quality_message(outcome);
+        for fragment in fragments {
+            assert!(message.contains(fragment), "{fragment:?} in {message}");
+        }
+    };
+    let twice_words = ["fluid.mixture.components[1].fluid", "twice"];
+    let blend_words = ["fluid.mixture.components[0].fluid"];
+
+    let mut watch = Watch::open(&server, None).await;
+    let response = watch.send(vec![twice("MIX-A", 0), blend("MIX-B", 0)]).await;
+    check(&response.outcomes[0], &twice_words);
+    check(&response.outcomes[1], &blend_words);
+    let response = watch.send(vec![valid("MIX-A", 1), valid("MIX-B", 1)]).await;
+    for outcome in &response.outcomes {
+        assert!(outcome.evaluated, "{outcome:#?}");
+        assert!(quality_issues(outcome).is_empty(), "{outcome:#?}");
+    }
+
+    let mut alarms = AlarmServiceClient::new(server.channel().await);
+    let answer = alarms
+        .evaluate_readings(pb::EvaluateReadingsRequest {
+            setup: None,
+            readings: vec![twice("MIX-A", 0), blend("MIX-B", 0), valid("MIX-C", 0)],
+        })
+        .await
+        .expect("evaluation answers")
+        .into_inner();
+    check(&answer.outcomes[0], &twice_words);
+    check(&answer.outcomes[1], &blend_words);
+    assert!(answer.outcomes[2].evaluated, "{:#?}", answer.outcomes[2]);
+    server.stop().await;
+}
+
+/// `alarms.max_streams` bounds the open alarm streams: with a limit of 2, a third WatchReadings
+/// call is refused with RESOURCE_EXHAUSTED naming the setting; once a stream has ended, a new
+/// one opens.
+#[tokio::test]
+async fn the_stream_limit_refuses_a_third_stream_until_one_ends() {
+    let mut settings = Settings::default();
+    settings.alarms.max_streams = 2;
+    let server = TestServer::start_with(settings).await;
+    let mut first = Watch::open(&server, None).await;
+    let mut second = Watch::open(&server, None).await;
+
+    let refused_open = || async {
+        let (requests, receiver) = mpsc::channel(1);
+        requests
+            .send(pb::WatchRequest::default())
+            .await
+            .expect("queue the opening");
+        let mut client = AlarmServiceClient::new(server.channel().await);
+        let answer = client.watch_readings(ReceiverStream::new(receiver)).await;
+        drop(requests);
+        answer.map(drop)
+    };
+    let status = refused_open().await.expect_err("a third stream is refused");
+    assert_eq!(status.code(), Code::ResourceExhausted, "{status:?}");
+    assert!(
+        status.message().contains("alarms.max_streams"),
+        "{status:?}"
+    );
+    assert!(status.message().contains('2'), "the limit: {status:?}");
+
+    // The open streams still work.
+    for watch in [&mut first, &mut second] {
+        let response = watch
+            .send(vec![reading("NH3-P101", "R-717", 0, 250.0, 3.0e5)])
+            .await;
+        assert!(response.outcomes[0].evaluated);
+    }
+
+    // Close the first stream and wait for its end.
+    let Watch {
+        requests,
+        mut responses,
+    } = first;
+    drop(requests);
+    let end = tokio::time::timeout(STOP_GUARD, responses.message())
+        .await
+        .expect("the stream ends within the guard time")
+        .expect("the stream ends without an error");
+    assert!(end.is_none(), "no more responses: {end:?}");
+
+    let mut third = Watch::open(&server, None).await;
+    let response = third
+        .send(vec![reading("NH3-P101", "R-717", 0, 250.0, 3.0e5)])
+        .await;
+    assert!(response.outcomes[0].evaluated);
+    drop(second);
+    drop(third);
+    server.stop().await;
+}
+
+/// Carbon dioxide at 1 atm and 180 K lies in the estimated solid region: below the
+/// triple-point pressure (0.51796 MPa at 216.589 K: Staveley, Lobo, Calado, Cryogenics 21
+/// (1981) 131, source key `staveley-1981` in crates/fluids/data/inorganic.toml) the solid
+/// boundary is the sublimation curve, which the engine estimates by Clausius-Clapeyron from its
+/// triple point with the heat of sublimation (`crates/eos`, `SolidBoundary`). A freezing-margin
+/// rule there names SUBLIMATION, with the engine's margin as its value.
+#[tokio::test]
+async fn a_solid_carbon_dioxide_reading_names_sublimation() {
+    let server = TestServer::start().await;
+    let eos = engine(
+        "R-744",
+        Model::PengRobinson1978,
+        ReferenceState::LiquidAtZeroCelsius,
+    );
+    let solid = *eos
+        .solid_boundary()
+        .expect("carbon dioxide has a solid estimate");
+    let (t, p) = (180.0, 101_325.0);
+    assert!(
+        p < solid.triple_pressure_pa,
+        "1 atm is below the model's triple-point pressure {}",
+        solid.triple_pressure_pa
+    );
+    let sublimation_t = solid.solid_temperature_k(p);
+    assert!(t < sublimation_t, "{t} K is below {sublimation_t} K");
+    let expected_margin = t - sublimation_t;
+
+    let freezing = rule(pb::AlarmRuleKind::MinimumFreezingMargin, 2.0, 1.0, 0.0, 0.0);
+    let mut watch = Watch::open(
+        &server,
+        Some(opening("CO2-RK2-VENT", vec![freezing.clone()])),
+    )
+    .await;
+    let response = watch
+        .send(vec![reading("CO2-RK2-VENT", "R-744", 0, t, p)])
+        .await;
+    let outcome = &response.outcomes[0];
+    assert!(outcome.evaluated, "{outcome:#?}");
+    assert_eq!(outcome.phase, pb::Phase::SolidEstimated as i32);
+    assert!(outcome.estimated, "the solid region is an estimate");
+    assert_same(
+        "freezing margin",
+        outcome
+            .margins
+            .as_ref()
+            .and_then(|m| m.freezing_margin_k)
+            .expect("a freezing margin"),
+        expected_margin,
+    );
+    let events = alarm_events(&response);
+    assert_eq!(events.len(), 1, "{events:#?}");
+    let (_, raised) = &events[0];
+    assert_eq!(kind_of(raised), pb::AlarmEventKind::Raised);
+    assert_eq!(raised.transition, pb::AlarmTransition::Sublimation as i32);
+    assert_same(
+        "raised value",
+        raised.value.expect("value"),
+        expected_margin,
+    );
+    assert!(raised.message.contains("sublimat"), "{}", raised.message);
+    assert_eq!(
+        EosPhase::SolidEstimated,
+        eos.state(t, p).expect("state").phase,
+        "the engine agrees"
+    );
+
+    // The unary form names the same transition.
+    let mut alarms = AlarmServiceClient::new(server.channel().await);
+    let answer = alarms
+        .evaluate_readings(pb::EvaluateReadingsRequest {
+            setup: Some(opening("CO2-RK2-VENT", vec![freezing])),
+            readings: vec![reading("CO2-RK2-VENT", "R-744", 0, t, p)],
+        })
+        .await
+        .expect("evaluation")
+        .into_inner();
+    let check = &answer.outcomes[0].checks[0];
+    assert!(check.beyond_limit, "{check:?}");
+    assert_eq!(check.transition, pb::AlarmTransition::Sublimation as i32);
+    server.stop().await;
+}
+
+/// A carbon dioxide receiver at 7.0 MPa is at 7.0 / 7.38 of its critical pressure (7.38 MPa: the
+/// critical-property compilation of Biswas, Leenhouts, Green et al., J. Chem. Inf. Model. 2023,
+/// source key `crit-compilation` in crates/fluids/data/inorganic.toml), above a 0.90 limit: the
+/// maximum-critical-pressure-fraction rule raises a CRITICAL_POINT alarm with the kind's default
+/// priority (medium, `common practice` in rules.rs), and clears when the pressure falls to
+/// 3.0 MPa, below the limit minus the deadband.
+#[tokio::test]
+async fn a_pressure_near_critical_raises_a_critical_point_alarm() {
+    let server = TestServer::start().await;
+    let pc = 7.38e6;
+    let critical = rule(
+        pb::AlarmRuleKind::MaximumCriticalPressureFraction,
+        0.90,
+        0.02,
+        0.0,
+        0.0,
+    );
+    let mut watch = Watch::open(&server, Some(opening("CO2-RK2-REC", vec![critical]))).await;
+    let response = watch
+        .send(vec![
+            reading("CO2-RK2-REC", "R-744", 0, 280.0, 7.0e6),
+            reading("CO2-RK2-REC", "R-744", 1, 280.0, 7.0e6),
+            reading("CO2-RK2-REC", "R-744", 2, 260.0, 3.0e6),
+        ])
+        .await;
+    for outcome in &response.outcomes {
+        assert!(outcome.evaluated, "{outcome:#?}");
+    }
+    let margins = response.outcomes[0].margins.expect("margins");
+    assert_same("P/Pc", margins.critical_pressure_fraction, 7.0e6 / pc);
+    assert_same("Pc - P", margins.pressure_below_critical_pa, pc - 7.0e6);
+    let events = alarm_events(&response);
+    assert_eq!(events.len(), 2, "one raise, one clear: {events:#?}");
+    let (raised_at, raised) = &events[0];
+    assert_eq!(*raised_at, 0);
+    assert_eq!(kind_of(raised), pb::AlarmEventKind::Raised);
+    assert_eq!(raised.transition, pb::AlarmTransition::CriticalPoint as i32);
+    assert_eq!(raised.priority, pb::AlarmPriority::Medium as i32);
+    assert_same("raised value", raised.value.expect("value"), 7.0e6 / pc);
+    assert_eq!(raised.limit, Some(0.90));
+    assert!(raised.message.contains("critical"), "{}", raised.message);
+    let (cleared_at, cleared) = &events[1];
+    assert_eq!(*cleared_at, 2);
+    assert_eq!(kind_of(cleared), pb::AlarmEventKind::Cleared);
+    assert_eq!(
+        cleared.transition,
+        pb::AlarmTransition::CriticalPoint as i32
+    );
+    assert_same("cleared value", cleared.value.expect("value"), 3.0e6 / pc);
+    assert_same("clear threshold", cleared.limit.expect("limit"), 0.88);
+    server.stop().await;
+}
+
+/// A subcooling rule on a gas cooler above the critical pressure has no value there: one
+/// RULE_UNDEFINED event names the rule and the reason, the next undefined reading is quiet, and
+/// after a defined reading the rule is reported undefined again.
+#[tokio::test]
+async fn an_undefined_rule_is_reported_once_per_spell() {
+    let server = TestServer::start().await;
+    // Limit -50 K: no state here comes near it, so only undefined events can appear.
+    let subcooling = rule(pb::AlarmRuleKind::MinimumSubcooling, -50.0, 0.0, 0.0, 0.0);
+    let mut watch = Watch::open(&server, Some(opening("CO2-RK2-GC", vec![subcooling]))).await;
+    // 9.0 MPa is above carbon dioxide's critical pressure of 7.38 MPa (source key
+    // `crit-compilation`, crates/fluids/data/inorganic.toml); 3.0 MPa is below it.
+    let response = watch
+        .send(vec![
+            reading("CO2-RK2-GC", "R-744", 0, 313.15, 9.0e6),
+            reading("CO2-RK2-GC", "R-744", 1, 314.15, 9.0e6),
+            reading("CO2-RK2-GC", "R-744", 2, 260.0, 3.0e6),
+            reading("CO2-RK2-GC", "R-744", 3, 313.15, 9.0e6),
+        ])
+        .await;
+    let undefined: Vec<(usize, &pb::AlarmEvent)> = response
+        .outcomes
+        .iter()
+        .enumerate()
+        .flat_map(|(i, o)| o.events.iter().map(move |e| (i, e)))
+        .filter(|(_, e)| kind_of(e) == pb::AlarmEventKind::RuleUndefined)
+        .collect();
+    assert_eq!(
+        undefined.iter().map(|(i, _)| *i).collect::<Vec<_>>(),
+        [0, 3],
+        "{undefined:#?}"
+    );
+    for (_, event) in &undefined {
+        assert_eq!(event.tag, "CO2-RK2-GC");
+        assert_eq!(event.transition, pb::AlarmTransition::Boiling as i32);
+        let rule = event.rule.as_ref().expect("the rule");
+        assert_eq!(rule.name, "minimum-subcooling");
+        assert!(
+            event.message.contains("above the critical pressure"),
+            "{}",
+            event.message
+        );
+    }
+    assert!(
+        response.outcomes[2]
+            .margins
+            .and_then(|m| m.subcooling_k)
+            .is_some(),
+        "the subcooling is defined below the critical pressure"
+    );
+    assert!(alarm_events(&response).is_empty());
+    server.stop().await;
+}
+
+/// With `alarms.max_tags_per_stream = 2`, a third tag's reading gets TAG_LIMIT naming the
+/// setting and is not evaluated; the two tracked tags go on being evaluated.
+#[tokio::test]
+async fn the_tag_limit_refuses_new_tags_and_keeps_the_tracked_ones() {
+    let mut settings = Settings::default();
+    settings.alarms.max_tags_per_stream = 2;
+    let server = TestServer::start_with(settings).await;
+    let mut watch = Watch::open(&server, None).await;
+    let response = watch
+        .send(vec![
+            reading("NH3-P101", "R-717", 0, 250.0, 3.0e5),
+            reading("NH3-P102", "R-717", 0, 250.0, 3.0e5),
+            reading("NH3-P103", "R-717", 0, 250.0, 3.0e5),
+            reading("NH3-P101", "R-717", 1, 250.0, 3.0e5),
+        ])
+        .await;
+    let outcomes = &response.outcomes;
+    assert!(outcomes[0].evaluated && outcomes[1].evaluated);
+    assert_eq!(quality_issues(&outcomes[2]), [pb::QualityIssue::TagLimit]);
+    assert!(!outcomes[2].evaluated);
+    let message = quality_message(&outcomes[2]);
+    assert!(message.contains("alarms.max_tags_per_stream"), "{message}");
+    assert!(message.contains("NH3-P103"), "{message}");
+    assert!(outcomes[3].evaluated, "{:#?}", outcomes[3]);
+    let later = watch
+        .send(vec![
+            reading("NH3-P102", "R-717", 2, 250.0, 3.0e5),
+            reading("NH3-P104", "R-717", 2, 250.0, 3.0e5),
+        ])
+        .await;
+    assert!(later.outcomes[0].evaluated);
+    assert_eq!(
+        quality_issues(&later.outcomes[1]),
+        [pb::QualityIssue::TagLimit]
+    );
+    server.stop().await;
+}
+
+/// An opening in a later message is ignored with a notice: its rules do not apply (here a rule
+/// that would raise at once on any subcooled reading), and the stream goes on.
+#[tokio::test]
+async fn a_second_opening_is_ignored_with_a_notice() {
+    let server = TestServer::start().await;
+    let mut watch = Watch::open(&server, None).await;
+    watch
+        .requests
+        .send(pb::WatchRequest {
+            opening: Some(pb::WatchOpening {
+                default_rules: vec![rule(
+                    pb::AlarmRuleKind::MinimumSubcooling,
+                    150.0,
+                    0.0,
+                    0.0,
+                    0.0,
+                )],
+                ..Default::default()
+            }),
+            readings: vec![reading("NH3-P101", "R-717", 0, 250.0, 3.0e5)],
+        })
+        .await
+        .expect("the stream accepts requests");
+    let response = watch.next().await.expect("a response, not an error");
+    assert_eq!(response.outcomes.len(), 1);
+    assert!(response.outcomes[0].evaluated);
+    let notices: Vec<&pb::AlarmEvent> = response
+        .events
+        .iter()
+        .filter(|e| kind_of(e) == pb::AlarmEventKind::Notice && e.message.contains("opening"))
+        .collect();
+    assert_eq!(notices.len(), 1, "{:#?}", response.events);
+    assert!(
+        notices[0].message.contains("ignored"),
+        "{}",
+        notices[0].message
+    );
+    assert!(notices[0].tag.is_empty(), "a stream-wide notice");
+    assert!(
+        alarm_events(&response).is_empty(),
+        "the second opening's rule does not apply: {:#?}",
+        alarm_events(&response)
+    );
+    // The next message, without an opening, has no such notice.
+    let next = watch
+        .send(vec![reading("NH3-P101", "R-717", 1, 250.0, 3.0e5)])
+        .await;
+    assert!(
+        !next.events.iter().any(|e| e.message.contains("ignored")),
+        "{:#?}",
+        next.events
+    );
+    server.stop().await;
+}
+
+/// Enum numbers no version of alarms.proto defines: a pressure kind of 7 is treated as a missing
+/// gauge flag and a quality flag of 9 as bad, each with a message naming the field, the number and
+/// the valid values; on the stream and in the unary form.
+#[tokio::test]
+async fn unknown_pressure_kind_and_quality_numbers_are_quality_events() {
+    let server = TestServer::start().await;
+    let mut kind = reading("NH3-P101", "R-717", 0, 250.0, 3.0e5);
+    kind.pressure_kind = 7;
+    let mut quality = reading("NH3-P102", "R-717", 0, 250.0, 3.0e5);
+    quality.quality = 9;
+    let check = |outcomes: &[pb::ReadingOutcome]| {
+        assert_eq!(
+            quality_issues(&outcomes[0]),
+            [pb::QualityIssue::PressureKindMissing]
+        );
+        let message = quality_message(&outcomes[0]);
+        for fragment in ["pressure_kind", "7", "1 (absolute) or 2 (gauge)"] {
+            assert!(message.contains(fragment), "{fragment:?} in {message}");
+        }
+        assert_eq!(
+            quality_issues(&outcomes[1]),
+            [pb::QualityIssue::BadQualityFlag]
+        );
+        let message = quality_message(&outcomes[1]);
+        for fragment in ["quality", "9", "valid 0 to 3"] {
+            assert!(message.contains(fragment), "{fragment:?} in {message}");
+        }
+        assert!(!outcomes[0].evaluated && !outcomes[1].evaluated);
+    };
+    let mut watch = Watch::open(&server, None).await;
+    let response = watch.send(vec![kind.clone(), quality.clone()]).await;
+    check(&response.outcomes);
+    let mut alarms = AlarmServiceClient::new(server.channel().await);
+    let answer = alarms
+        .evaluate_readings(pb::EvaluateReadingsRequest {
+            setup: None,
+            readings: vec![kind, quality],
+        })
+        .await
+        .expect("evaluation")
+        .into_inner();
+    check(&answer.outcomes);
+    server.stop().await;
+}
+
+/// EvaluateReadings takes at most `limits.max_batch_length` readings: one more is refused with
+/// INVALID_ARGUMENT naming the field and the limit; at the limit the batch is answered.
+#[tokio::test]
+async fn an_evaluation_batch_over_the_limit_is_refused_naming_the_limit() {
+    let mut settings = Settings::default();
+    settings.limits.max_batch_length = 10;
+    let server = TestServer::start_with(settings).await;
+    let mut alarms = AlarmServiceClient::new(server.channel().await);
+    let batch = |n: i64| pb::EvaluateReadingsRequest {
+        setup: None,
+        readings: (0..n)
+            .map(|i| reading("NH3-P101", "R-717", i, 250.0, 3.0e5))
+            .collect(),
+    };
+    let status = alarms
+        .evaluate_readings(batch(11))
+        .await
+        .expect_err("11 readings over a limit of 10");
+    assert_eq!(status.code(), Code::InvalidArgument, "{status:?}");
+    for fragment in ["readings", "11", "limit of 10"] {
+        assert!(
+            status.message().contains(fragment),
+            "{fragment:?}: {status:?}"
+        );
+    }
+    let answer = alarms
+        .evaluate_readings(batch(10))
+        .await
+        .expect("a batch at the limit")
+        .into_inner();
+    assert_eq!(answer.outcomes.len(), 10);
     server.stop().await;
 }

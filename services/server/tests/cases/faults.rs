@@ -1,13 +1,17 @@
 //! Faults, with the real server binary as child processes on loopback:
 //!
-//! - SIGTERM while calls are in flight: every one of them is answered in full, then the process
-//!   exits cleanly;
+//! - SIGTERM, and SIGINT (Ctrl-C), while calls are in flight: every one of them is answered in
+//!   full, then the process exits cleanly;
+//! - an invalid setting, from the environment or from the `--config` file: start-up stops with a
+//!   failure exit status and a message on standard error naming the setting and its valid values;
 //! - SIGKILL of one of three replicas while a client balances over them: no idempotent call is
 //!   lost (the client retries with backoff, `examples/support/resilience.rs`);
 //! - a restart with the same settings: the same answers, byte for byte.
 //!
 //! Each test is bounded in count and time; no test asserts how long anything takes.
 
+use std::io::Read as _;
+use std::process::{Command, ExitStatus, Stdio};
 use std::sync::Arc;
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::time::{Duration, Instant};
@@ -17,7 +21,7 @@ use binodal_proto::v1::phase_service_client::PhaseServiceClient;
 use prost::Message as _;
 use tonic::transport::{Channel, Endpoint};
 
-use crate::cases::fluid;
+use crate::cases::{fluid, slow_mixture};
 use crate::util::process::{Launch, PROCESS_GUARD, ServerProcess, sample};
 use crate::util::resilience::{Backoff, balanced_channel, call_with_retry};
 
@@ -45,15 +49,28 @@ async fn wait_for_active_calls(server: &ServerProcess, wanted: f64) {
     }
 }
 
-/// Points per batch in the drain test, so that each call is still being computed when the signal
-/// comes: states of the blend R-407C go through bubble- and dew-point solves (no precomputed
-/// curve), a fraction of a millisecond each.
+/// Points per batch in the drain tests, so that each call is still being computed when the signal
+/// comes: states of the R-407C-like custom mixture go through bubble- and dew-point solves (no
+/// precomputed lines), a fraction of a millisecond each.
 const DRAIN_POINTS: usize = 3_000;
-/// Calls in flight when SIGTERM is sent, each on its own connection.
+/// Calls in flight when the signal is sent, each on its own connection.
 const DRAIN_CALLS: usize = 6;
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn sigterm_lets_every_call_in_flight_finish() {
+    drain_on_signal("TERM", "SIGTERM received").await;
+}
+
+/// Ctrl-C drains like SIGTERM (issue 4: "graceful shutdown on SIGTERM and Ctrl-C"; main.rs
+/// listens for both).
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn sigint_lets_every_call_in_flight_finish_like_sigterm() {
+    drain_on_signal("INT", "Ctrl-C received").await;
+}
+
+/// Sends `signal` while [`DRAIN_CALLS`] batches are in flight; checks that the server logged
+/// `logged` (the signal was the one handled), answered every call in full and exited cleanly.
+async fn drain_on_signal(signal: &str, logged: &str) {
     let mut server = ServerProcess::start(
         &Launch::default()
             .with_metrics()
@@ -62,7 +79,7 @@ async fn sigterm_lets_every_call_in_flight_finish() {
     )
     .await;
     let request = pb::GetStateBatchRequest {
-        fluid: fluid("R-407C"),
+        fluid: slow_mixture(),
         temperatures_k: (0..DRAIN_POINTS)
             .map(|i| 200.0 + 200.0 * i as f64 / DRAIN_POINTS as f64)
             .collect(),
@@ -79,18 +96,20 @@ async fn sigterm_lets_every_call_in_flight_finish() {
         }));
     }
     wait_for_active_calls(&server, DRAIN_CALLS as f64).await;
-    server.signal("TERM");
+    server.signal(signal);
 
     for call in calls {
         let answer = call
             .await
             .expect("call task")
-            .expect("a call in flight at SIGTERM is answered")
+            .unwrap_or_else(|e| panic!("a call in flight at SIG{signal} is not answered: {e:?}"))
             .into_inner();
         assert_eq!(answer.phases.len(), DRAIN_POINTS, "the answer is complete");
     }
     let status = server.wait_exit().await;
     assert!(status.success(), "clean exit after draining: {status}");
+    // The signal handled was this one.
+    server.wait_for_log(logged).await;
     // The server had calls in flight when the shutdown began: the drain was exercised.
     let in_flight = server
         .log_lines()
@@ -98,8 +117,8 @@ async fn sigterm_lets_every_call_in_flight_finish() {
         .filter_map(|line| serde_json::from_str::<serde_json::Value>(line).ok())
         .find_map(|line| line["fields"]["calls_in_flight"].as_u64())
         .expect("the shutdown line counts the calls in flight");
-    assert!(in_flight >= 1, "no call was in flight at SIGTERM");
-    println!("SIGTERM with {in_flight} of {DRAIN_CALLS} calls in flight: all answered in full");
+    assert!(in_flight >= 1, "no call was in flight at SIG{signal}");
+    println!("SIG{signal} with {in_flight} of {DRAIN_CALLS} calls in flight: all answered in full");
     assert!(
         Endpoint::from_shared(server.url())
             .expect("endpoint")
@@ -332,5 +351,127 @@ async fn a_restarted_server_serves_the_same_answers() {
         assert!(a == b, "answer {index} differs after the restart");
     }
     drop(second);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// Runs the server binary with `args` and `env` (every other `BINODAL_*` variable removed) and
+/// waits for it to exit, which it must do before serving: its exit status and standard error.
+/// Fails the test if it is still running after [`PROCESS_GUARD`] (it would then be serving).
+async fn failed_start(args: &[&std::ffi::OsStr], env: &[(&str, &str)]) -> (ExitStatus, String) {
+    let mut command = Command::new(env!("CARGO_BIN_EXE_binodal-server"));
+    for (name, _) in std::env::vars() {
+        if name.starts_with("BINODAL_") || name == "RUST_LOG" {
+            command.env_remove(name);
+        }
+    }
+    let mut child = command
+        .arg("--listen")
+        .arg("127.0.0.1:0")
+        .args(args)
+        .envs(env.iter().copied())
+        .stdin(Stdio::null())
+        .stdout(Stdio::null())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("start the binodal-server binary");
+    let started = Instant::now();
+    let status = loop {
+        if let Some(status) = child.try_wait().expect("poll the server process") {
+            break status;
+        }
+        if started.elapsed() > PROCESS_GUARD {
+            child.kill().ok();
+            child.wait().ok();
+            panic!("binodal-server started with {args:?} {env:?} instead of refusing to");
+        }
+        tokio::time::sleep(Duration::from_millis(20)).await;
+    };
+    let mut stderr = String::new();
+    child
+        .stderr
+        .take()
+        .expect("piped standard error")
+        .read_to_string(&mut stderr)
+        .expect("read standard error");
+    (status, stderr)
+}
+
+/// Asserts a refused start: exit status 1 (`ExitCode::FAILURE`, src/main.rs; EXIT_FAILURE is 1
+/// on POSIX systems), not a panic or a signal, nothing served, and a message naming each of
+/// `fragments`.
+fn assert_refused(what: &str, status: ExitStatus, stderr: &str, fragments: &[&str]) {
+    assert_eq!(
+        status.code(),
+        Some(1),
+        "{what}: exit status {status}\n{stderr}"
+    );
+    assert!(!stderr.contains("panicked"), "{what}: a panic\n{stderr}");
+    assert!(
+        !stderr.contains("binodal server listening"),
+        "{what}: the server began serving\n{stderr}"
+    );
+    for fragment in fragments {
+        assert!(
+            stderr.contains(fragment),
+            "{what}: standard error lacks {fragment:?}:\n{stderr}"
+        );
+    }
+}
+
+/// Issue 4: "Invalid settings stop start-up with a message that names the setting." The valid
+/// ranges expected here are those binodal.example.toml documents for each setting.
+#[tokio::test]
+async fn an_invalid_setting_stops_start_up_naming_the_setting_and_its_range() {
+    // From the environment: a batch limit of 0 ("from 1 to 10000000").
+    let (status, stderr) = failed_start(&[], &[("BINODAL_LIMITS__MAX_BATCH_LENGTH", "0")]).await;
+    assert_refused(
+        "BINODAL_LIMITS__MAX_BATCH_LENGTH=0",
+        status,
+        &stderr,
+        &[
+            "limits.max_batch_length",
+            "BINODAL_LIMITS__MAX_BATCH_LENGTH",
+            "\"0\"",
+            "from 1 to 10000000",
+        ],
+    );
+
+    // From a --config file: a message size below the smallest allowed ("from 65536 to
+    // 1073741824"), a request timeout of 0 ms ("from 1 to 3600000"), and a model that does not
+    // exist (the example file lists the five).
+    let dir = std::env::temp_dir().join(format!("binodal-bad-settings-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp dir");
+    let files: [(&str, &str, &[&str]); 3] = [
+        (
+            "message-size.toml",
+            "[limits]\nmax_message_size_bytes = 100\n",
+            &[
+                "limits.max_message_size_bytes",
+                "\"100\"",
+                "from 65536 to 1073741824",
+            ],
+        ),
+        (
+            "timeout.toml",
+            "[limits]\nrequest_timeout_ms = 0\n",
+            &["limits.request_timeout_ms", "from 1 to 3600000"],
+        ),
+        (
+            "model.toml",
+            "default_equation_of_state = \"peng-robinson\"\n",
+            &[
+                "default_equation_of_state",
+                "\"peng-robinson\"",
+                "van-der-waals, redlich-kwong, soave-redlich-kwong, peng-robinson-1976, \
+                 peng-robinson-1978",
+            ],
+        ),
+    ];
+    for (file, text, fragments) in files {
+        let path = dir.join(file);
+        std::fs::write(&path, text).expect("write settings file");
+        let (status, stderr) = failed_start(&["--config".as_ref(), path.as_os_str()], &[]).await;
+        assert_refused(&format!("--config {file}"), status, &stderr, fragments);
+    }
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -171,25 +171,45 @@ async fn bad_requests_get_precise_statuses() {
             fragments: words(&["propanne", "propane"]),
             violation: None,
         },
+        // Carbon dioxide's triple point lies above one atmosphere (0.518 MPa at 216.6 K, the
+        // catalogue's inorganic.toml, `staveley-1981`): it has no liquid at the normal boiling
+        // pressure, so that reference state cannot apply.
+        Refusal {
+            what: "normal-boiling-point reference for carbon dioxide (GetState)",
+            call: Call::State(pb::GetStateRequest {
+                fluid: fluid("R-744"),
+                temperature_k: 300.0,
+                pressure_pa: 1.0e5,
+                reference_state: pb::ReferenceState::LiquidAtNormalBoilingPoint as i32,
+                ..Default::default()
+            }),
+            code: Code::InvalidArgument,
+            fragments: words(&[
+                "reference_state",
+                "Carbon dioxide",
+                "another reference state",
+            ]),
+            violation: Some("reference_state"),
+        },
         Refusal {
             what: "NaN temperature (GetState)",
             call: state("propane", f64::NAN, 1.0e5),
             code: Code::InvalidArgument,
-            fragments: words(&["temperature_k"]),
+            fragments: words(&["temperature_k", "valid", "kelvin", "above 0 K"]),
             violation: Some("temperature_k"),
         },
         Refusal {
             what: "NaN temperature (GetSaturation)",
             call: saturation("propane", Some(Condition::TemperatureK(f64::NAN))),
             code: Code::InvalidArgument,
-            fragments: words(&["temperature_k"]),
+            fragments: words(&["temperature_k", "valid", "kelvin", "above 0 K"]),
             violation: Some("temperature_k"),
         },
         Refusal {
             what: "infinite pressure (GetState)",
             call: state("propane", 280.0, f64::INFINITY),
             code: Code::InvalidArgument,
-            fragments: words(&["pressure_pa"]),
+            fragments: words(&["pressure_pa", "valid", "pascal", "above 0 Pa"]),
             violation: Some("pressure_pa"),
         },
         Refusal {
@@ -388,7 +408,7 @@ async fn an_oversized_batch_is_refused_naming_the_limit() {
 }
 
 /// proto/binodal/v1/fluids.proto: "an empty selector is rejected with INVALID_ARGUMENT naming
-/// `fluid`"; DescribeFluid does so for an empty name, the phase RPCs answer NOT_FOUND.
+/// `fluid`"; the phase RPCs do so for an empty name too.
 #[tokio::test]
 async fn an_empty_fluid_name_is_an_invalid_argument() {
     let server = TestServer::start().await;

@@ -209,8 +209,7 @@ async fn list_fluids_filters_by_text() {
     server.stop().await;
 }
 
-/// The proto promises two things the server does not do yet: ListFluids matches the formula,
-/// and orders its answer by fluid id (proto/binodal/v1/fluids.proto, ListFluidsRequest.text and
+/// Two promises of the proto: ListFluids matches the formula, and orders its answer by fluid id (proto/binodal/v1/fluids.proto, ListFluidsRequest.text and
 /// ListFluidsResponse.fluids).
 #[tokio::test]
 async fn list_fluids_matches_formula_and_orders_by_id() {
