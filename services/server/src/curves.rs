@@ -76,7 +76,7 @@ pub fn prepare_pure(
                             plain
                         }
                     };
-                    references
+                    let with_references: Vec<_> = references
                         .iter()
                         .map(|&r| {
                             // Without ideal-gas data the engine answers without absolute h
@@ -92,7 +92,15 @@ pub fn prepare_pure(
                             };
                             (r, eos)
                         })
-                        .collect()
+                        .collect();
+                    if with_references.iter().any(|(_, eos)| eos.is_ok()) {
+                        with_references
+                    } else {
+                        // No reference state applies to this fluid under this model (e.g. a
+                        // model whose saturation range misses both defining conditions): it
+                        // answers without absolute h and s, as for a fluid without ideal-gas data.
+                        references.iter().map(|&r| (r, Ok(plain.clone()))).collect()
+                    }
                 }
                 Err(e) => references.iter().map(|&r| (r, Err(e.clone()))).collect(),
             };
