@@ -176,8 +176,8 @@ def main() -> int:
     ids: dict[str, str] = {}
     names: dict[str, str] = {}
     n_fluids = 0
-    # The fluid files: the data directory also holds blends.toml and the generated fits,
-    # accuracy and interactions files, which have no [[fluid]] tables.
+    # The fluid files: the data directory also holds blends.toml and the generated fits and
+    # accuracy files, which have no [[fluid]] tables.
     files = []
     for path in sorted(DATA_DIR.glob("*.toml")):
         with path.open("rb") as fh:

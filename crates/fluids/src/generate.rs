@@ -58,9 +58,6 @@ pub enum GenerateError {
     /// Reference data could not be read.
     #[error(transparent)]
     Data(#[from] CatalogueError),
-    /// A data set names a fluid the catalogue lacks.
-    #[error(transparent)]
-    Lookup(#[from] crate::LookupError),
     /// The engine failed for a fluid and model.
     #[error("{fluid} under {model}: {source}")]
     Engine {

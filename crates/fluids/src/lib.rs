@@ -46,9 +46,6 @@
 //!
 //! (two separate runs: the second must be built with the new fits compiled in). The test
 //! suite recomputes `accuracy.toml` and fails if it differs from the committed file.
-//! `data/interactions.toml` (binary interaction parameters, see [`interaction`]) is written
-//! by `catalogue-tool -- interactions` and checked the same way;
-//! [`Catalogue::interaction_matrix`] hands them to mixtures.
 //!
 //! ## User files
 //!
@@ -75,7 +72,6 @@
 mod blend;
 mod error;
 pub mod generate;
-pub mod interaction;
 mod lookup;
 mod parse;
 mod record;
@@ -83,13 +79,11 @@ pub mod reference;
 
 pub use blend::BlendRecord;
 pub use error::{CatalogueError, LookupError, Problem};
-pub use interaction::{INTERACTIONS_TOML, InteractionRecord};
 pub use lookup::normalize;
 pub use record::{
     AccuracyRecord, BoilingPointCheck, DeviationSummary, FitRecord, FluidRecord, SafetyClass,
 };
 
-use binodal_eos::Model;
 use lookup::NameIndex;
 use parse::Mode;
 use std::path::Path;
@@ -125,7 +119,6 @@ pub struct Catalogue {
     fluids: Vec<FluidRecord>,
     index: NameIndex,
     blends: Vec<BlendRecord>,
-    interactions: Vec<InteractionRecord>,
 }
 
 impl Catalogue {
@@ -180,7 +173,6 @@ impl Catalogue {
             fluids,
             index,
             blends: self.blends.clone(),
-            interactions: self.interactions.clone(),
         })
     }
 
@@ -223,39 +215,6 @@ impl Catalogue {
                 )
             })
             .collect()
-    }
-
-    /// The recorded binary interaction parameter of fluids `a` and `b` (ids, either order)
-    /// under `model`, if `data/interactions.toml` has one.
-    pub fn interaction(&self, a: &str, b: &str, model: Model) -> Option<&InteractionRecord> {
-        self.interactions.iter().find(|r| {
-            r.model == model
-                && ((r.pair[0] == a && r.pair[1] == b) || (r.pair[0] == b && r.pair[1] == a))
-        })
-    }
-
-    /// The `k_ij` matrix for a mixture of the fluids `ids` under `model`: recorded values
-    /// where the catalogue has them, 0 elsewhere; `None` when every entry is 0.
-    pub fn interaction_matrix(&self, ids: &[&str], model: Model) -> Option<Vec<Vec<f64>>> {
-        let mut any = false;
-        let matrix = ids
-            .iter()
-            .map(|a| {
-                ids.iter()
-                    .map(|b| {
-                        let kij = self.interaction(a, b, model).map_or(0.0, |r| r.kij);
-                        any |= kij != 0.0;
-                        kij
-                    })
-                    .collect()
-            })
-            .collect();
-        any.then_some(matrix)
-    }
-
-    /// Every recorded binary interaction parameter.
-    pub fn interactions(&self) -> &[InteractionRecord] {
-        &self.interactions
     }
 
     /// Every fluid: the built-in ones in catalogue order, then user fluids in file order.
@@ -357,14 +316,10 @@ fn load_builtin() -> Catalogue {
         fluids.iter().any(|f| f.id == id)
     })
     .unwrap_or_else(|e| panic!("data/blends.toml: {e}"));
-    let interactions =
-        interaction::parse(INTERACTIONS_TOML, |id| fluids.iter().any(|f| f.id == id))
-            .unwrap_or_else(|e| panic!("data/interactions.toml: {e}"));
     Catalogue {
         fluids,
         index,
         blends,
-        interactions,
     }
 }
 

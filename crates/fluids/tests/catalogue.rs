@@ -9,8 +9,6 @@ mod blends;
 mod consistency;
 #[path = "catalogue/gaps.rs"]
 mod gaps;
-#[path = "catalogue/interactions.rs"]
-mod interactions;
 #[path = "catalogue/names.rs"]
 mod names;
 #[path = "catalogue/safety.rs"]

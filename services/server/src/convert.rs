@@ -270,7 +270,7 @@ pub fn blend_description(
             pb::ModelSupport {
                 equation_of_state: model_to_proto(model) as i32,
                 alpha_function: pb::AlphaFunction::AcentricCorrelation as i32,
-                alpha_function_detail: "each component's own alpha (fitted where the catalogue has a fit); one-fluid mixing rules with the catalogue's binary interaction parameters (k_ij fitted to GERG-2008 bubble points where recorded, else 0)".into(),
+                alpha_function_detail: "each component's own alpha (fitted where the catalogue has a fit); one-fluid mixing rules with k_ij = 0".into(),
                 accuracy: worst,
             }
         })
@@ -645,9 +645,7 @@ pub fn mixture_basis(choice: &MixtureChoice) -> pb::ResultBasis {
         .map(|(f, mut a)| {
             a.reference = format!(
                 "worst recorded pure-component deviation ({}); the mixture's phase equilibrium \
-                 uses k_ij fitted to GERG-2008 bubble points where the catalogue records one \
-                 (propane with isobutane or n-butane: at most 1.2 % in bubble pressure there), else k_ij = 0, which is \
-                 not checked against mixture data",
+                 (k_ij = 0) is not checked against measured mixture data",
                 f.name
             );
             a

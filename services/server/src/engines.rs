@@ -184,11 +184,7 @@ impl Engines {
         } else {
             fractions
         };
-        // Binary interaction parameters recorded in the catalogue (fitted to reference
-        // bubble points), 0 for other pairs.
-        let ids: Vec<&str> = parts.iter().map(|(id, _)| id.as_str()).collect();
-        let kij = self.catalogue.interaction_matrix(&ids, model);
-        let plain = Mixture::new(components, mole, kij)?;
+        let plain = Mixture::new(components, mole, None)?;
         let Some(reference) = reference else {
             return Ok((plain, None));
         };

@@ -3,7 +3,6 @@
 //! ```text
 //! cargo run --release -p binodal-fluids --bin catalogue-tool -- fit
 //! cargo run --release -p binodal-fluids --bin catalogue-tool -- accuracy
-//! cargo run --release -p binodal-fluids --bin catalogue-tool -- interactions
 //! ```
 //!
 //! `fit` fits a Mathias-Copeman alpha function for Peng-Robinson (1978) and
@@ -11,8 +10,6 @@
 //! `accuracy` measures every model of every fluid against the same data (with the fits
 //! compiled into this binary) and writes `data/accuracy.toml`. Run `fit` first, then
 //! `accuracy` as a separate command so that cargo rebuilds with the new fits.
-//! `interactions` fits binary interaction parameters to the binary bubble-point data and
-//! writes `data/interactions.toml`.
 
 use anyhow::{Context, Result, bail};
 use binodal_fluids::{ACCURACY_TOML, Catalogue, FITS_TOML, generate};
@@ -64,31 +61,11 @@ fn accuracy() -> Result<()> {
     write("accuracy.toml", &text)
 }
 
-fn interactions() -> Result<()> {
-    let records = binodal_fluids::interaction::fit_all(Catalogue::builtin())?;
-    for r in &records {
-        eprintln!(
-            "{:<10} {:<10} {:<20} kij {:+.5}: bubble pressure mean {:.3} % (k_ij = 0: {:.3} %)",
-            r.pair[0],
-            r.pair[1],
-            r.model.id(),
-            r.kij,
-            r.bubble_pressure_mean_abs_percent,
-            r.zero_kij_mean_abs_percent
-        );
-    }
-    write(
-        "interactions.toml",
-        &binodal_fluids::interaction::render(&records),
-    )
-}
-
 fn main() -> Result<()> {
     let command = std::env::args().nth(1).unwrap_or_default();
     match command.as_str() {
         "fit" => fit(),
         "accuracy" => accuracy(),
-        "interactions" => interactions(),
-        other => bail!("unknown command `{other}`; valid commands: fit, accuracy, interactions"),
+        other => bail!("unknown command `{other}`; valid commands: fit, accuracy"),
     }
 }

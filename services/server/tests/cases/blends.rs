@@ -171,30 +171,6 @@ async fn custom_mixture_state_and_fraction_checks() {
         "{warnings:?}"
     );
 
-    // An equimolar liquid at 280 K boils at 3.799938e5 Pa with vapor y(propane) = 0.7197732
-    // by GERG-2008 (Kunz and Wagner 2012, evaluated with teqp 0.23.2:
-    // crates/fluids/data/reference/propane_isobutane_gerg2008.csv). The service applies the
-    // catalogue's fitted k_ij for the pair (data/interactions.toml), whose recorded largest
-    // deviation over that data is under 1 %.
-    let equimolar = mixture(
-        &[("propane", 0.5), ("isobutane", 0.5)],
-        pb::FractionBasis::Mole,
-    );
-    let bd = client
-        .get_saturation(at_temperature(equimolar, 280.0))
-        .await
-        .unwrap()
-        .into_inner()
-        .bubble_dew
-        .unwrap();
-    assert!(
-        (bd.bubble_pressure_pa / 3.799938e5 - 1.0).abs() < 0.01,
-        "{}",
-        bd.bubble_pressure_pa
-    );
-    let y = bd.incipient_vapor_composition[0].mole_fraction;
-    assert!((y - 0.7197732).abs() < 0.01, "{y}");
-
     let bad = [
         (
             mixture(
