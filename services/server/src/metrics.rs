@@ -13,7 +13,7 @@
 //! | `binodal_request_duration_seconds` | histogram | `method`, `code` | time from request to the end of the answer |
 //! | `binodal_active_streams` | gauge | | gRPC calls (HTTP/2 streams) open now, streams included |
 //! | `binodal_requests_shed_total` | counter | | calls refused because every slot was taken |
-//! | `binodal_solver_failures_total` | counter | | solves that did not converge: INTERNAL answers of the phase service and batch points with NOT_CONVERGED |
+//! | `binodal_solver_failures_total` | counter | | solves that did not converge: INTERNAL answers of the phase service, batch points with NOT_CONVERGED, and alarm readings with CALCULATION_FAILED |
 //! | `binodal_computations_total` | counter | `path` | answers by how they were computed: `full_solve` or `precomputed_curve` (saturation-curve hits) |
 //! | `binodal_alarm_events_total` | counter | `kind`, `priority` | alarm events sent (watch streams and evaluations) |
 //! | `binodal_process_resident_memory_bytes` | gauge | | resident memory, read from `/proc` at each scrape |
@@ -436,7 +436,8 @@ fn alarm_priority_label(priority: i32) -> &'static str {
 }
 
 /// Counts the alarm events of one answer: those of the answer as a whole and those of each
-/// reading's outcome.
+/// reading's outcome. A reading whose calculation failed (quality issue CALCULATION_FAILED) also
+/// counts as a solver failure.
 fn count_alarm_events(events: &[pb::AlarmEvent], outcomes: &[pb::ReadingOutcome]) {
     let per_reading = outcomes.iter().flat_map(|outcome| &outcome.events);
     for event in events.iter().chain(per_reading) {
@@ -444,6 +445,9 @@ fn count_alarm_events(events: &[pb::AlarmEvent], outcomes: &[pb::ReadingOutcome]
             alarm_kind_label(event.kind),
             alarm_priority_label(event.priority),
         );
+        if event.quality_issue == pb::QualityIssue::CalculationFailed as i32 {
+            record_solver_failure();
+        }
     }
 }
 
