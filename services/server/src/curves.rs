@@ -46,6 +46,20 @@ pub struct CurveSummary {
     pub threads: usize,
 }
 
+impl CurveSummary {
+    /// Adds one verified curve's solves and deviations (forward and inverse series).
+    fn record(&mut self, report: &binodal_eos::CurveReport) {
+        self.solves += report.solves;
+        self.max_pressure_deviation = self
+            .max_pressure_deviation
+            .max(report.max_pressure_deviation)
+            .max(report.max_inverse_pressure_deviation);
+        self.max_temperature_deviation_k = self
+            .max_temperature_deviation_k
+            .max(report.max_inverse_temperature_deviation_k);
+    }
+}
+
 /// Builds the engines of `records` under every model and each of `references`, with a
 /// saturation curve per fluid and model, in parallel. Returns `(fluid id, engines)` in catalogue
 /// order.
@@ -124,14 +138,7 @@ pub fn prepare_pure(
         match curve {
             Some(Some(report)) => {
                 summary.built += 1;
-                summary.solves += report.solves;
-                summary.max_pressure_deviation = summary
-                    .max_pressure_deviation
-                    .max(report.max_pressure_deviation)
-                    .max(report.max_inverse_pressure_deviation);
-                summary.max_temperature_deviation_k = summary
-                    .max_temperature_deviation_k
-                    .max(report.max_inverse_temperature_deviation_k);
+                summary.record(&report);
             }
             Some(None) => summary.failed += 1,
             None => {}
@@ -159,24 +166,6 @@ pub fn prepare_pure(
 pub type BlendMixtures =
     HashMap<(usize, Model, ReferenceState), Result<Arc<Mixture>, binodal_eos::Error>>;
 
-/// What the blend line builds did, for the start-up log.
-#[derive(Debug, Clone, Default, PartialEq)]
-pub struct BlendCurveSummary {
-    /// Blend and model pairs with both lines built and verified.
-    pub built: usize,
-    /// Blend and model pairs left without lines (their mixtures use the full solver).
-    pub failed: usize,
-    /// Largest recorded relative pressure deviation of any line from the solver (forward or
-    /// inverse series).
-    pub max_pressure_deviation: f64,
-    /// Largest recorded deviation of any inverse line, as a temperature, K.
-    pub max_temperature_deviation_k: f64,
-    /// Full solves run by all builds (locating each line's convergence limit not included).
-    pub solves: usize,
-    /// Wall time of the parallel preparation (mixtures, reference states and lines), ms.
-    pub elapsed_ms: f64,
-}
-
 /// Prepares `blends` catalogue blends under every model and each of `references`, in parallel
 /// on rayon's pool: `build(blend, model, reference)` makes each mixture, and every blend and
 /// model gets its bubble and dew lines ([`binodal_eos::BoundaryCurves`]), built once and shared
@@ -187,7 +176,7 @@ pub fn prepare_blends(
     references: &[ReferenceState],
     build: impl Fn(usize, Model, ReferenceState) -> Result<Mixture, binodal_eos::Error> + Sync,
     name: impl Fn(usize) -> String + Sync,
-) -> (BlendMixtures, BlendCurveSummary) {
+) -> (BlendMixtures, CurveSummary) {
     let started = Instant::now();
     let jobs: Vec<(usize, Model)> = (0..blends)
         .flat_map(|i| Model::ALL.into_iter().map(move |m| (i, m)))
@@ -215,7 +204,10 @@ pub fn prepare_blends(
         })
         .collect();
 
-    let mut summary = BlendCurveSummary::default();
+    let mut summary = CurveSummary {
+        threads: rayon::current_num_threads(),
+        ..CurveSummary::default()
+    };
     let mut out = BlendMixtures::new();
     for (i, model, curves, mixtures) in built {
         let curves = match curves {
@@ -237,14 +229,7 @@ pub fn prepare_blends(
                             .max(report.max_inverse_pressure_deviation),
                         "blend line built"
                     );
-                    summary.solves += report.solves;
-                    summary.max_pressure_deviation = summary
-                        .max_pressure_deviation
-                        .max(report.max_pressure_deviation)
-                        .max(report.max_inverse_pressure_deviation);
-                    summary.max_temperature_deviation_k = summary
-                        .max_temperature_deviation_k
-                        .max(report.max_inverse_temperature_deviation_k);
+                    summary.record(report);
                 }
                 Some(curves)
             }

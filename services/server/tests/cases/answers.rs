@@ -19,7 +19,7 @@ use binodal_server::settings::Settings;
 use tonic::Code;
 
 use super::{
-    RECORD_ROUNDING_PERCENT, assert_same, check_basis, deviation_percent, engine, fluid,
+    MODELS, RECORD_ROUNDING_PERCENT, assert_same, check_basis, deviation_percent, engine, fluid,
     phase_client, slow_mixture,
 };
 use crate::util::TestServer;
@@ -27,24 +27,6 @@ use crate::util::TestServer;
 /// The server's default model (`Settings::default`).
 const DEFAULT_MODEL: Model = Model::PengRobinson1978;
 const DEFAULT_EOS: pb::EquationOfState = pb::EquationOfState::PengRobinson1978;
-
-/// Every model, with its proto value.
-const MODELS: [(Model, pb::EquationOfState); 5] = [
-    (Model::VanDerWaals, pb::EquationOfState::VanDerWaals),
-    (Model::RedlichKwong, pb::EquationOfState::RedlichKwong),
-    (
-        Model::SoaveRedlichKwong,
-        pb::EquationOfState::SoaveRedlichKwong,
-    ),
-    (
-        Model::PengRobinson1976,
-        pb::EquationOfState::PengRobinson1976,
-    ),
-    (
-        Model::PengRobinson1978,
-        pb::EquationOfState::PengRobinson1978,
-    ),
-];
 
 /// One standard atmosphere, Pa (ISO 2533 / CGPM 1954 definition): the pressure of the normal
 /// boiling point.

@@ -61,6 +61,24 @@ pub fn slow_mixture() -> Option<pb::FluidSelector> {
     })
 }
 
+/// Every model, with its proto value.
+pub const MODELS: [(Model, pb::EquationOfState); 5] = [
+    (Model::VanDerWaals, pb::EquationOfState::VanDerWaals),
+    (Model::RedlichKwong, pb::EquationOfState::RedlichKwong),
+    (
+        Model::SoaveRedlichKwong,
+        pb::EquationOfState::SoaveRedlichKwong,
+    ),
+    (
+        Model::PengRobinson1976,
+        pb::EquationOfState::PengRobinson1976,
+    ),
+    (
+        Model::PengRobinson1978,
+        pb::EquationOfState::PengRobinson1978,
+    ),
+];
+
 /// A phase-service client connected to `server`.
 pub async fn phase_client(server: &TestServer) -> PhaseServiceClient<Channel> {
     PhaseServiceClient::new(server.channel().await)

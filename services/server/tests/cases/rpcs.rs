@@ -497,22 +497,7 @@ async fn recorded_deviation_holds_over_the_reference_tables() {
         // liquid table matching the WebBook export (data.citation names each).
         assert!(data.citation.contains("NIST"), "{}", data.citation);
         let tc = record.constants.critical_temperature_k;
-        for (model, eos) in [
-            (Model::VanDerWaals, pb::EquationOfState::VanDerWaals),
-            (Model::RedlichKwong, pb::EquationOfState::RedlichKwong),
-            (
-                Model::SoaveRedlichKwong,
-                pb::EquationOfState::SoaveRedlichKwong,
-            ),
-            (
-                Model::PengRobinson1976,
-                pb::EquationOfState::PengRobinson1976,
-            ),
-            (
-                Model::PengRobinson1978,
-                pb::EquationOfState::PengRobinson1978,
-            ),
-        ] {
+        for (model, eos) in super::MODELS {
             let mut checked = 0u32;
             let mut accuracy = None;
             // All points of one model at once: the calls overlap on one HTTP/2 connection.
