@@ -1,6 +1,7 @@
 //! Compiles `proto/` with the pure-Rust `protox` compiler (no system `protoc`), generates the
 //! messages and gRPC stubs with `tonic-prost-build`, and writes the encoded descriptor set to
-//! `OUT_DIR` for gRPC server reflection.
+//! `OUT_DIR` for gRPC server reflection. The services and clients use this crate's own codec
+//! (`src/codec.rs`).
 
 use std::error::Error;
 use std::path::{Path, PathBuf};
@@ -30,6 +31,7 @@ fn main() -> Result<(), Box<dyn Error>> {
         .build_client(true)
         .build_server(true)
         .emit_rerun_if_changed(false)
+        .codec_path("crate::codec::PreSizedCodec")
         .compile_fds(compiler.file_descriptor_set())?;
     Ok(())
 }

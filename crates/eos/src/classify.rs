@@ -7,6 +7,7 @@
 //! equation with constant `dH_fus / dV_fus`, `P = Ptp + dH_fus/dV_fus ln(T/Ttp)`.
 //! Results in or near the solid region are flagged as estimated.
 
+use crate::cubic::Extreme;
 use crate::curve::SolvePath;
 use crate::eos::{PhaseProperties, PureEos};
 use crate::error::{Error, positive};
@@ -300,13 +301,17 @@ impl PureEos {
             _ => {}
         }
 
-        let roots = self.compressibility_roots(t, p);
+        // The temperature terms once for the root and the properties; only the root the
+        // phase needs is polished.
+        let at = self.at_temperature(t);
         let z = match phase {
-            Phase::SubcooledLiquid | Phase::SolidEstimated => roots.smallest(),
-            Phase::SuperheatedVapor => roots.largest(),
+            Phase::SubcooledLiquid | Phase::SolidEstimated => {
+                self.extreme_root(&at, p, Extreme::Smallest)
+            }
+            Phase::SuperheatedVapor => self.extreme_root(&at, p, Extreme::Largest),
             _ => self.stable_root(t, p),
         };
-        let properties = self.phase_properties(t, p, z);
+        let properties = self.phase_properties_at(&at, p, z);
         Ok(State {
             temperature_k: t,
             pressure_pa: p,

@@ -47,6 +47,56 @@ impl CubicRoots {
 /// liquid root many orders of magnitude smaller than the vapor root keeps full relative
 /// precision.
 pub fn solve_cubic(c2: f64, c1: f64, c0: f64) -> CubicRoots {
+    let first = first_root(c2, c1, c0);
+    let Some((second, third)) = deflated_pair(first, c2, c1, c0) else {
+        return CubicRoots::single(first);
+    };
+    let mut roots = [first, polish(second, c2, c1, c0), polish(third, c2, c1, c0)];
+    roots.sort_by(f64::total_cmp);
+    CubicRoots { roots, len: 3 }
+}
+
+/// Which root of a cubic a caller needs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Extreme {
+    /// The smallest real root (a liquid's compressibility).
+    Smallest,
+    /// The largest real root (a vapor's compressibility).
+    Largest,
+}
+
+/// Roots closer than this, relative to the larger magnitude, are polished before they are
+/// ordered: a Newton step moves a root that close to another by more than their separation.
+const ROOTS_APART: f64 = 1e-6;
+
+/// The smallest or largest real root of `z^3 + c2 z^2 + c1 z + c0 = 0`: the value
+/// [`solve_cubic`] reports as `smallest()` or `largest()`, with less work. The closed-form root
+/// is the largest of three (or the only one); of the deflated pair, only the root asked for is
+/// polished, unless two roots lie within [`ROOTS_APART`] of each other, where all three are
+/// polished and sorted as in [`solve_cubic`].
+pub fn solve_cubic_extreme(c2: f64, c1: f64, c0: f64, which: Extreme) -> f64 {
+    let first = first_root(c2, c1, c0);
+    let Some((second, third)) = deflated_pair(first, c2, c1, c0) else {
+        return first;
+    };
+    let (low, high) = if second <= third {
+        (second, third)
+    } else {
+        (third, second)
+    };
+    let apart = |below: f64, above: f64| above - below > ROOTS_APART * below.abs().max(above.abs());
+    match which {
+        Extreme::Largest if apart(high, first) => first,
+        Extreme::Smallest if apart(low, high) && apart(low, first) => polish(low, c2, c1, c0),
+        Extreme::Largest => solve_cubic(c2, c1, c0).largest(),
+        Extreme::Smallest => solve_cubic(c2, c1, c0).smallest(),
+    }
+}
+
+/// One real root in closed form (Cardano where the discriminant is positive, otherwise the
+/// largest root of the trigonometric form), polished.
+#[inline]
+fn first_root(c2: f64, c1: f64, c0: f64) -> f64 {
     // Depressed cubic t^3 + p t + q = 0 with z = t - c2/3.
     let shift = c2 / 3.0;
     let p = c1 - c2 * shift;
@@ -66,8 +116,14 @@ pub fn solve_cubic(c2: f64, c1: f64, c0: f64) -> CubicRoots {
         };
         2.0 * r * (arg.acos() / 3.0).cos() - shift
     };
-    let first = polish(first, c2, c1, c0);
-    // Deflate: z^2 + e1 z + e0 with e1 = c2 + first and e0 = -c0 / first (product of roots).
+    polish(first, c2, c1, c0)
+}
+
+/// The other two roots, unpolished, from the quadratic left by dividing out `first`:
+/// `z^2 + e1 z + e0` with `e1 = c2 + first` and `e0 = -c0 / first` (the product of the
+/// roots), by the cancellation-free formula; `None` when they are complex.
+#[inline]
+fn deflated_pair(first: f64, c2: f64, c1: f64, c0: f64) -> Option<(f64, f64)> {
     let e1 = c2 + first;
     let e0 = if first != 0.0 {
         -c0 / first
@@ -76,14 +132,14 @@ pub fn solve_cubic(c2: f64, c1: f64, c0: f64) -> CubicRoots {
     };
     let d = e1 * e1 - 4.0 * e0;
     if d < 0.0 {
-        return CubicRoots::single(first);
+        return None;
     }
     let qd = -0.5 * (e1 + e1.signum() * d.sqrt());
-    let second = if qd != 0.0 { qd } else { 0.0 };
-    let third = if qd != 0.0 { e0 / qd } else { 0.0 };
-    let mut roots = [first, polish(second, c2, c1, c0), polish(third, c2, c1, c0)];
-    roots.sort_by(f64::total_cmp);
-    CubicRoots { roots, len: 3 }
+    if qd != 0.0 {
+        Some((qd, e0 / qd))
+    } else {
+        Some((0.0, 0.0))
+    }
 }
 
 /// Up to three Newton steps on the cubic; a step is kept only if it reduces the residual (the
@@ -153,6 +209,51 @@ mod tests {
         assert_eq!(cube_root(0.0), 0.0);
         assert_eq!(cube_root(-27.0), -3.0);
         assert!(cube_root(f64::NAN).is_nan());
+    }
+
+    /// The single-root solve gives exactly the root the full solve reports, for cubics from
+    /// known roots spread over many magnitudes (liquid roots down to 1e-7 of the vapor root),
+    /// nearly coincident pairs and triples, and cubics with one real root.
+    #[test]
+    fn extreme_roots_match_the_full_solve() {
+        let mut checked = 0;
+        let mut seed = 0x9E37_79B9_7F4A_7C15_u64;
+        let mut uniform = || {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            (seed >> 11) as f64 / (1u64 << 53) as f64
+        };
+        for _ in 0..20_000 {
+            let largest = 0.05 + 1.5 * uniform();
+            let smallest = largest * 10f64.powf(-7.0 * uniform());
+            let middle = match (uniform() * 4.0) as u32 {
+                0 => smallest * (1.0 + 1e-9 * uniform()),
+                1 => largest * (1.0 - 1e-9 * uniform()),
+                _ => smallest + (largest - smallest) * uniform(),
+            };
+            let r = [smallest, middle, largest];
+            let c2 = -(r[0] + r[1] + r[2]);
+            let c1 = r[0] * r[1] + r[0] * r[2] + r[1] * r[2];
+            let c0 = -r[0] * r[1] * r[2];
+            // The same coefficients with the pair below the largest made complex.
+            let single = (-(largest) - 0.2, 0.01 + 0.2 * largest, -0.01 * largest);
+            for (c2, c1, c0) in [(c2, c1, c0), single] {
+                let full = solve_cubic(c2, c1, c0);
+                assert_eq!(
+                    solve_cubic_extreme(c2, c1, c0, Extreme::Largest).to_bits(),
+                    full.largest().to_bits(),
+                    "largest of {c2} {c1} {c0}"
+                );
+                assert_eq!(
+                    solve_cubic_extreme(c2, c1, c0, Extreme::Smallest).to_bits(),
+                    full.smallest().to_bits(),
+                    "smallest of {c2} {c1} {c0}"
+                );
+                checked += 1;
+            }
+        }
+        assert_eq!(checked, 40_000);
     }
 
     /// Cubics built from known roots, including the nearly coincident pairs met near the

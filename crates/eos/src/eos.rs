@@ -2,7 +2,7 @@
 //! properties of a phase from its compressibility root.
 
 use crate::alpha::Alpha;
-use crate::cubic::{CubicRoots, solve_cubic};
+use crate::cubic::{CubicRoots, Extreme, solve_cubic, solve_cubic_extreme};
 use crate::error::{Error, ErrorKind, positive};
 use crate::fluid::{FluidConstants, GAS_CONSTANT as R, IdealGasCp, VolumeShift};
 use crate::model::{CubicConstants, Model};
@@ -64,6 +64,19 @@ pub(crate) struct Residual {
     pub ln_phi: f64,
     pub h_res: f64,
     pub s_res: f64,
+}
+
+/// The temperature-dependent terms of one evaluation at `t`, computed once and shared by the
+/// root solve and every property at that temperature: `R T`, `a(T)` with its first two
+/// temperature derivatives, and the volume translation `c(T)` with its.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct AtTemperature {
+    pub t: f64,
+    pub rt: f64,
+    /// `(a, da/dT, d2a/dT2)`.
+    pub attraction: (f64, f64, f64),
+    /// `(c, dc/dT, d2c/dT2)`.
+    pub shift: (f64, f64, f64),
 }
 
 /// One fluid under one model, ready to compute. Build once, use many times.
@@ -235,9 +248,14 @@ impl PureEos {
     /// translation multiplies every phase's fugacity coefficient by `exp(-cP/RT)`, adds
     /// `T P dc/dT - P c` to the enthalpy and `P dc/dT` to the entropy.
     pub(crate) fn translated(&self, t: f64, p: f64, res: Residual) -> Residual {
-        let (c, dc, _) = self.volume_shift_at(t);
+        self.translated_at(&self.at_temperature(t), p, res)
+    }
+
+    /// [`Self::translated`] with the temperature terms already computed.
+    fn translated_at(&self, at: &AtTemperature, p: f64, res: Residual) -> Residual {
+        let (t, (c, dc, _)) = (at.t, at.shift);
         Residual {
-            ln_phi: res.ln_phi - c * p / (R * t),
+            ln_phi: res.ln_phi - c * p / at.rt,
             h_res: res.h_res + (t * dc - c) * p,
             s_res: res.s_res + p * dc,
         }
@@ -305,32 +323,69 @@ impl PureEos {
         )
     }
 
+    /// The temperature terms of an evaluation at `t` (see [`AtTemperature`]).
+    #[inline]
+    pub(crate) fn at_temperature(&self, t: f64) -> AtTemperature {
+        AtTemperature {
+            t,
+            rt: R * t,
+            attraction: self.attraction(t),
+            shift: self.volume_shift_at(t),
+        }
+    }
+
     /// `q = a / (b R T)`, the only temperature-dependent group of the reduced isotherm.
     pub(crate) fn q(&self, t: f64) -> f64 {
         self.attraction(t).0 / (self.b * R * t)
     }
 
-    /// Dimensionless A and B at (T, P).
-    fn ab(&self, t: f64, p: f64) -> (f64, f64) {
-        let rt = R * t;
-        (self.attraction(t).0 * p / (rt * rt), self.b * p / rt)
+    /// Dimensionless A and B at pressure `p` and the temperature of `at`.
+    fn ab(&self, at: &AtTemperature, p: f64) -> (f64, f64) {
+        (at.attraction.0 * p / (at.rt * at.rt), self.b * p / at.rt)
     }
 
-    /// Real compressibility roots at (T, P) that lie above B (V > b), ascending.
-    /// Always returns at least one root for T > 0, P > 0.
-    pub fn compressibility_roots(&self, t: f64, p: f64) -> CubicRoots {
-        let (a, b) = self.ab(t, p);
+    /// The compressibility cubic's coefficients `(c2, c1, c0)` and B at pressure `p` and the
+    /// temperature of `at`.
+    fn cubic_coefficients(&self, at: &AtTemperature, p: f64) -> ([f64; 3], f64) {
+        let (a, b) = self.ab(at, p);
         let u = self.cubic.delta1 + self.cubic.delta2;
         let w = self.cubic.delta1 * self.cubic.delta2;
         let c2 = -(1.0 + b - u * b);
         let c1 = a + w * b * b - u * b - u * b * b;
         let c0 = -(a * b + w * b * b + w * b * b * b);
+        ([c2, c1, c0], b)
+    }
+
+    /// Real compressibility roots at (T, P) that lie above B (V > b), ascending.
+    /// Always returns at least one root for T > 0, P > 0.
+    pub fn compressibility_roots(&self, t: f64, p: f64) -> CubicRoots {
+        let ([c2, c1, c0], b) = self.cubic_coefficients(&self.at_temperature(t), p);
         let roots = solve_cubic(c2, c1, c0);
         if roots.count() == 3 && roots.smallest() <= b {
             // A spurious root at or below the co-volume: only the largest is physical.
             return CubicRoots::single(roots.largest());
         }
         roots
+    }
+
+    /// The smallest (`Extreme::Smallest`) or largest physical compressibility root at `p` and
+    /// the temperature of `at`: the same root as [`Self::compressibility_roots`]'s
+    /// `smallest()` or `largest()`, without polishing the roots not asked for.
+    pub(crate) fn extreme_root(&self, at: &AtTemperature, p: f64, which: Extreme) -> f64 {
+        let ([c2, c1, c0], b) = self.cubic_coefficients(at, p);
+        match which {
+            Extreme::Largest => solve_cubic_extreme(c2, c1, c0, Extreme::Largest),
+            Extreme::Smallest => {
+                let z = solve_cubic_extreme(c2, c1, c0, Extreme::Smallest);
+                if z > b {
+                    z
+                } else {
+                    // At or below the co-volume the smallest root is spurious, and the
+                    // largest is the only physical one (as in `compressibility_roots`).
+                    solve_cubic_extreme(c2, c1, c0, Extreme::Largest)
+                }
+            }
+        }
     }
 
     /// `I = 1/(delta1 - delta2) ln((Z + delta1 B)/(Z + delta2 B))`, or `B/Z` when
@@ -346,26 +401,47 @@ impl PureEos {
 
     /// ln(phi), residual h and residual s of the root `z` at (T, P), untranslated.
     pub(crate) fn residual(&self, t: f64, p: f64, z: f64) -> Residual {
-        let (a, da, _) = self.attraction(t);
-        let rt = R * t;
+        self.residual_at(&self.at_temperature(t), p, z).0
+    }
+
+    /// [`Self::residual`] with the temperature terms already computed; also returns the
+    /// log term `I` (the same at this root whether written in Z and B or in v/b).
+    fn residual_at(&self, at: &AtTemperature, p: f64, z: f64) -> (Residual, f64) {
+        let (t, rt, (a, da, _)) = (at.t, at.rt, at.attraction);
         let big_a = a * p / (rt * rt);
         let big_b = self.b * p / rt;
         let i = self.log_term(z, big_b);
-        let ln_phi = z - 1.0 - (z - big_b).ln() - big_a / big_b * i;
+        let ln_z_minus_b = (z - big_b).ln();
+        let ln_phi = z - 1.0 - ln_z_minus_b - big_a / big_b * i;
         let h_res = rt * (z - 1.0) + (t * da - a) / self.b * i;
-        let s_res = R * (z - big_b).ln() + da / self.b * i;
-        Residual {
-            ln_phi,
-            h_res,
-            s_res,
-        }
+        let s_res = R * ln_z_minus_b + da / self.b * i;
+        (
+            Residual {
+                ln_phi,
+                h_res,
+                s_res,
+            },
+            i,
+        )
     }
 
     /// Full properties of the phase with compressibility root `z` at (T, P).
     pub fn phase_properties(&self, t: f64, p: f64, z: f64) -> PhaseProperties {
-        let res = self.translated(t, p, self.residual(t, p, z));
-        let v_eos = z * R * t / p;
-        let v = v_eos - self.volume_shift_at(t).0;
+        self.phase_properties_at(&self.at_temperature(t), p, z)
+    }
+
+    /// [`Self::phase_properties`] with the temperature terms already computed.
+    pub(crate) fn phase_properties_at(
+        &self,
+        at: &AtTemperature,
+        p: f64,
+        z: f64,
+    ) -> PhaseProperties {
+        let t = at.t;
+        let (untranslated, i) = self.residual_at(at, p, z);
+        let res = self.translated_at(at, p, untranslated);
+        let v_eos = z * at.rt / p;
+        let v = v_eos - at.shift.0;
         let mut out = PhaseProperties {
             molar_volume_m3_per_mol: v,
             density_kg_per_m3: self.molar_mass / v,
@@ -380,7 +456,7 @@ impl PureEos {
         };
         if let Some(ideal) = &self.ideal {
             let cp_ig = R * ideal.cp_over_r(t);
-            let (cv, cp) = self.heat_capacities(t, p, v_eos, cp_ig);
+            let (cv, cp) = self.heat_capacities(at, p, v_eos, i, cp_ig);
             out.isobaric_heat_capacity_j_per_mol_k = Some(cp);
             out.isochoric_heat_capacity_j_per_mol_k = Some(cv);
             if let Some((_, h_off, s_off)) = self.reference {
@@ -394,21 +470,28 @@ impl PureEos {
         out
     }
 
-    /// (cv, cp) in J/(mol K) at temperature `t`, pressure `p` and untranslated molar volume
-    /// `v`. Translation adds `T P d2c/dT2` to cp, and cv follows from the translated
-    /// `(dP/dT)_V = (dP/dT)_Veos + (dP/dVeos) dc/dT`.
-    fn heat_capacities(&self, t: f64, p: f64, v: f64, cp_ig: f64) -> (f64, f64) {
-        let (a, da, d2a) = self.attraction(t);
+    /// (cv, cp) in J/(mol K) at the temperature of `at`, pressure `p` and untranslated molar
+    /// volume `v`, where `i` is the log term of the root (`I` of `log_term` at Z and B, equal
+    /// to it at v/b and 1). Translation adds `T P d2c/dT2` to cp, and cv follows from the
+    /// translated `(dP/dT)_V = (dP/dT)_Veos + (dP/dVeos) dc/dT`.
+    fn heat_capacities(
+        &self,
+        at: &AtTemperature,
+        p: f64,
+        v: f64,
+        i: f64,
+        cp_ig: f64,
+    ) -> (f64, f64) {
+        let (t, (a, da, d2a)) = (at.t, at.attraction);
         let b = self.b;
         let (d1, d2) = (self.cubic.delta1, self.cubic.delta2);
-        let i = self.log_term(v / b, 1.0);
         let cv_res = t * d2a / b * i;
         let denom = (v + d1 * b) * (v + d2 * b);
         let dp_dt = R / (v - b) - da / denom;
         let dp_dv = -R * t / ((v - b) * (v - b)) + a * (2.0 * v + (d1 + d2) * b) / (denom * denom);
         let cv_eos = cp_ig - R + cv_res;
         let cp_eos = cv_eos - t * dp_dt * dp_dt / dp_dv;
-        let (_, dc, d2c) = self.volume_shift_at(t);
+        let (_, dc, d2c) = at.shift;
         if dc == 0.0 && d2c == 0.0 {
             return (cv_eos, cp_eos);
         }

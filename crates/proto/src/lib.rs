@@ -8,6 +8,7 @@
 //!   [`v1::phase_service_server::PhaseService`] trait with its
 //!   [`v1::phase_service_server::PhaseServiceServer`] wrapper.
 //! - [`FILE_DESCRIPTOR_SET`]: the encoded descriptors, for gRPC server reflection.
+//! - [`codec`]: the protobuf codec the generated services and clients use.
 //!
 //! ```
 //! use binodal_proto::v1::{FluidSelector, GetStateRequest, fluid_selector::Choice};
@@ -23,6 +24,8 @@
 //! assert_eq!(request.temperature_k, 298.15);
 //! ```
 #![deny(missing_docs)]
+
+pub mod codec;
 
 /// The `binodal.v1` package: generated from `proto/binodal/v1/*.proto`.
 ///
