@@ -309,7 +309,7 @@ impl PureEos {
                 self.extreme_root(&at, p, Extreme::Smallest)
             }
             Phase::SuperheatedVapor => self.extreme_root(&at, p, Extreme::Largest),
-            _ => self.stable_root(t, p),
+            _ => self.stable_root_at(&at, p),
         };
         let properties = self.phase_properties_at(&at, p, z);
         Ok(State {

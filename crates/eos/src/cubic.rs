@@ -84,13 +84,39 @@ pub fn solve_cubic_extreme(c2: f64, c1: f64, c0: f64, which: Extreme) -> f64 {
     } else {
         (third, second)
     };
-    let apart = |below: f64, above: f64| above - below > ROOTS_APART * below.abs().max(above.abs());
     match which {
         Extreme::Largest if apart(high, first) => first,
         Extreme::Smallest if apart(low, high) && apart(low, first) => polish(low, c2, c1, c0),
         Extreme::Largest => solve_cubic(c2, c1, c0).largest(),
         Extreme::Smallest => solve_cubic(c2, c1, c0).smallest(),
     }
+}
+
+/// The smallest and the largest real root of `z^3 + c2 z^2 + c1 z + c0 = 0` (equal when
+/// there is one): the values [`solve_cubic`] reports as `smallest()` and `largest()`, with the
+/// middle root left unpolished where the three lie apart (see [`solve_cubic_extreme`]).
+pub fn solve_cubic_extremes(c2: f64, c1: f64, c0: f64) -> (f64, f64) {
+    let first = first_root(c2, c1, c0);
+    let Some((second, third)) = deflated_pair(first, c2, c1, c0) else {
+        return (first, first);
+    };
+    let (low, high) = if second <= third {
+        (second, third)
+    } else {
+        (third, second)
+    };
+    if apart(high, first) && apart(low, high) {
+        (polish(low, c2, c1, c0), first)
+    } else {
+        let roots = solve_cubic(c2, c1, c0);
+        (roots.smallest(), roots.largest())
+    }
+}
+
+/// Whether `above` exceeds `below` by more than [`ROOTS_APART`] of the larger magnitude.
+#[inline]
+fn apart(below: f64, above: f64) -> bool {
+    above - below > ROOTS_APART * below.abs().max(above.abs())
 }
 
 /// One real root in closed form (Cardano where the discriminant is positive, otherwise the
@@ -249,6 +275,12 @@ mod tests {
                     solve_cubic_extreme(c2, c1, c0, Extreme::Smallest).to_bits(),
                     full.smallest().to_bits(),
                     "smallest of {c2} {c1} {c0}"
+                );
+                let (smallest, largest) = solve_cubic_extremes(c2, c1, c0);
+                assert_eq!(
+                    (smallest.to_bits(), largest.to_bits()),
+                    (full.smallest().to_bits(), full.largest().to_bits()),
+                    "both extremes of {c2} {c1} {c0}"
                 );
                 checked += 1;
             }

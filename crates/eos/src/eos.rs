@@ -2,7 +2,7 @@
 //! properties of a phase from its compressibility root.
 
 use crate::alpha::Alpha;
-use crate::cubic::{CubicRoots, Extreme, solve_cubic, solve_cubic_extreme};
+use crate::cubic::{CubicRoots, Extreme, solve_cubic, solve_cubic_extreme, solve_cubic_extremes};
 use crate::error::{Error, ErrorKind, positive};
 use crate::fluid::{FluidConstants, GAS_CONSTANT as R, IdealGasCp, VolumeShift};
 use crate::model::{CubicConstants, Model};
@@ -42,8 +42,9 @@ pub struct PhaseProperties {
     pub density_kg_per_m3: f64,
     /// Compressibility factor `P V / (R T)` of the translated volume.
     pub compressibility: f64,
-    /// Fugacity coefficient.
-    pub fugacity_coefficient: f64,
+    /// Natural logarithm of the fugacity coefficient (see
+    /// [`PhaseProperties::fugacity_coefficient`]).
+    pub ln_fugacity_coefficient: f64,
     /// Residual (departure) enthalpy, J/mol.
     pub residual_enthalpy_j_per_mol: f64,
     /// Residual (departure) entropy at (T, P), J/(mol K).
@@ -56,6 +57,14 @@ pub struct PhaseProperties {
     pub isobaric_heat_capacity_j_per_mol_k: Option<f64>,
     /// Isochoric heat capacity, J/(mol K) (needs ideal-gas data; from the untranslated volume).
     pub isochoric_heat_capacity_j_per_mol_k: Option<f64>,
+}
+
+impl PhaseProperties {
+    /// Fugacity coefficient (the exponential of `ln_fugacity_coefficient`, computed on
+    /// request: state and batch answers do not need it).
+    pub fn fugacity_coefficient(&self) -> f64 {
+        self.ln_fugacity_coefficient.exp()
+    }
 }
 
 /// Residual quantities of one root, cheap to compute.
@@ -446,7 +455,7 @@ impl PureEos {
             molar_volume_m3_per_mol: v,
             density_kg_per_m3: self.molar_mass / v,
             compressibility: p * v / (R * t),
-            fugacity_coefficient: res.ln_phi.exp(),
+            ln_fugacity_coefficient: res.ln_phi,
             residual_enthalpy_j_per_mol: res.h_res,
             residual_entropy_j_per_mol_k: res.s_res,
             enthalpy_j_per_mol: None,
@@ -504,12 +513,19 @@ impl PureEos {
     /// The stable root at (T, P): the only one, or of three the one with the lowest
     /// Gibbs energy (lowest fugacity coefficient).
     pub fn stable_root(&self, t: f64, p: f64) -> f64 {
-        let roots = self.compressibility_roots(t, p);
-        if roots.count() == 1 {
-            return roots.largest();
+        self.stable_root_at(&self.at_temperature(t), p)
+    }
+
+    /// [`Self::stable_root`] with the temperature terms already computed.
+    pub(crate) fn stable_root_at(&self, at: &AtTemperature, p: f64) -> f64 {
+        let ([c2, c1, c0], b) = self.cubic_coefficients(at, p);
+        let (zl, zv) = solve_cubic_extremes(c2, c1, c0);
+        // One root, or a spurious one at or below the co-volume (as in
+        // `compressibility_roots`): the largest is the only physical root.
+        if zl == zv || zl <= b {
+            return zv;
         }
-        let (zl, zv) = (roots.smallest(), roots.largest());
-        if self.residual(t, p, zl).ln_phi < self.residual(t, p, zv).ln_phi {
+        if self.residual_at(at, p, zl).0.ln_phi < self.residual_at(at, p, zv).0.ln_phi {
             zl
         } else {
             zv

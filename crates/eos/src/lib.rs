@@ -53,7 +53,7 @@ mod saturation;
 
 pub use alpha::{Alpha, AlphaValue};
 pub use classify::{Margins, Phase, SATURATION_TOLERANCE, SolidBoundary, State};
-pub use cubic::{CubicRoots, Extreme, solve_cubic, solve_cubic_extreme};
+pub use cubic::{CubicRoots, Extreme, solve_cubic, solve_cubic_extreme, solve_cubic_extremes};
 pub use curve::{
     BOUNDARY_CURVE_BAND, BOUNDARY_LIMIT_RESOLUTION_K, BoundaryCurves, BoundaryKind,
     CURVE_BUILD_TARGET, CURVE_CRITICAL_BAND, CURVE_DEGREE, CURVE_TOLERANCE, CurveReport,

@@ -258,10 +258,13 @@ impl PureEos {
     /// near-critical band: from the engine's saturation curve where it has one that covers
     /// the temperature, else from the full solver.
     pub fn saturation_pressure(&self, temperature_k: f64) -> Result<f64, Error> {
-        let t = self.check_saturation_temperature(temperature_k)?;
-        if let Some(p) = self.curve_pressure(t) {
+        // The curve's range (the minimum temperature to Tc (1 - CURVE_CRITICAL_BAND)) lies
+        // inside the range the checks below accept, and NaN is in no range: a temperature the
+        // curve covers needs no other check.
+        if let Some(p) = self.curve_pressure(temperature_k) {
             return Ok(p);
         }
+        let t = self.check_saturation_temperature(temperature_k)?;
         Ok(self.solve_saturation_pressure_unchecked(t)?.pressure)
     }
 

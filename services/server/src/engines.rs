@@ -2,13 +2,13 @@
 //! once at start-up so that a request only looks up its fluid and computes.
 
 use std::collections::HashMap;
-
 use std::sync::Arc;
 
 use binodal_eos::{Mixture, Model, PureEos, ReferenceState};
 use binodal_fluids::{Catalogue, FluidRecord, SafetyClass};
 
 use binodal_proto::v1 as pb;
+use rustc_hash::FxHashMap;
 
 use crate::status::ServiceError;
 
@@ -18,16 +18,25 @@ struct FluidEngines {
     /// `by_model[model][reference]`: the engine with absolute h and s in that reference
     /// state, or without (when the fluid lacks ideal-gas data or the reference state does
     /// not apply), or the engine's construction error.
-    by_model: HashMap<(Model, ReferenceState), Result<PureEos, binodal_eos::Error>>,
+    by_model: FxHashMap<(Model, ReferenceState), Result<PureEos, binodal_eos::Error>>,
     /// The basis every answer of each prepared engine carries, built once.
-    bases: HashMap<(Model, ReferenceState), pb::ResultBasis>,
+    bases: FxHashMap<(Model, ReferenceState), pb::ResultBasis>,
+}
+
+/// What a name exactly as the catalogue spells it resolves to (see `Engines::exact_names`).
+#[derive(Debug, Clone, Copy)]
+enum Named {
+    /// A catalogue blend, by its position in the catalogue's blend list.
+    Blend(usize),
+    /// A catalogue fluid, by its position in the catalogue's fluid list.
+    Fluid(usize),
 }
 
 /// The catalogue and its prepared engines.
 #[derive(Debug)]
 pub struct Engines {
     catalogue: Catalogue,
-    fluids: HashMap<String, FluidEngines>,
+    fluids: FxHashMap<String, FluidEngines>,
     /// Every catalogue blend (by its position in the catalogue's blend list) under every model
     /// and reference state.
     blends: HashMap<(usize, Model, ReferenceState), Result<Arc<Mixture>, binodal_eos::Error>>,
@@ -37,6 +46,11 @@ pub struct Engines {
     /// normalized, to its position in the catalogue's blend list: a request resolves a blend
     /// name with one normalization and one hash look-up.
     blend_names: HashMap<String, usize>,
+    /// Every spelling the catalogue gives (id, display name, ASHRAE number, aliases of each
+    /// fluid and blend), exactly as written, resolved at start-up by the same rules as any
+    /// other name: a request that spells a name as the catalogue does resolves with one fast
+    /// hash of the name as sent, any other spelling through normalization.
+    exact_names: FxHashMap<String, Named>,
     /// The equation of state used when a request leaves it unspecified.
     pub default_model: Model,
     /// The reference state used when a request leaves it unspecified.
@@ -91,7 +105,7 @@ impl Engines {
     ) -> Engines {
         // Every fluid and model with a saturation curve, built in parallel (see `curves`).
         let (pure, _curves) = crate::curves::prepare_pure(catalogue.fluids(), &REFERENCES);
-        let fluids: HashMap<String, FluidEngines> = pure
+        let fluids: FxHashMap<String, FluidEngines> = pure
             .into_iter()
             .zip(catalogue.fluids())
             .map(|((id, by_model), record)| {
@@ -102,6 +116,7 @@ impl Engines {
                         Some((key, crate::convert::prepare_basis(record, eos)))
                     })
                     .collect();
+                let by_model = by_model.into_iter().collect();
                 (id, FluidEngines { by_model, bases })
             })
             .collect();
@@ -111,6 +126,7 @@ impl Engines {
             blends: HashMap::new(),
             blend_components: Vec::new(),
             blend_names: HashMap::new(),
+            exact_names: FxHashMap::default(),
             default_model,
             default_reference,
         };
@@ -157,7 +173,70 @@ impl Engines {
             }
         }
         engines.blend_names = blend_names;
+        engines.exact_names = engines.resolve_spellings();
         engines
+    }
+
+    /// Every spelling of every catalogue fluid and blend, resolved by the normalizing look-ups
+    /// (`blend_index_normalized`, then `Catalogue::get`), so that the fast path can only give
+    /// the answer the slow one gives.
+    fn resolve_spellings(&self) -> FxHashMap<String, Named> {
+        let fluids = self.catalogue.fluids();
+        let blends = self.catalogue.blends();
+        let spellings = fluids
+            .iter()
+            .flat_map(|f| {
+                [Some(&f.id), Some(&f.name), f.ashrae_number.as_ref()]
+                    .into_iter()
+                    .flatten()
+                    .chain(&f.aliases)
+            })
+            .chain(blends.iter().flat_map(|b| {
+                [Some(&b.id), Some(&b.name), b.ashrae_number.as_ref()]
+                    .into_iter()
+                    .flatten()
+                    .chain(&b.aliases)
+            }));
+        let mut exact = FxHashMap::default();
+        for spelling in spellings {
+            let named = if let Some(i) = self.blend_index_normalized(spelling) {
+                Named::Blend(i)
+            } else if let Ok(record) = self.catalogue.get(spelling) {
+                let i = fluids
+                    .iter()
+                    .position(|f| f.id == record.id)
+                    .expect("a record the catalogue returns is in its list");
+                Named::Fluid(i)
+            } else {
+                continue;
+            };
+            exact.entry(spelling.clone()).or_insert(named);
+        }
+        exact
+    }
+
+    /// The position of the blend `name` names, through normalization.
+    fn blend_index_normalized(&self, name: &str) -> Option<usize> {
+        self.blend_names
+            .get(&binodal_fluids::normalize(name))
+            .copied()
+    }
+
+    /// The position of the blend `name` names, if any.
+    fn blend_index(&self, name: &str) -> Option<usize> {
+        match self.exact_names.get(name) {
+            Some(&Named::Blend(i)) => Some(i),
+            Some(&Named::Fluid(_)) => None,
+            None => self.blend_index_normalized(name),
+        }
+    }
+
+    /// The catalogue fluid `name` names.
+    fn fluid_record(&self, name: &str) -> Result<&FluidRecord, binodal_fluids::LookupError> {
+        match self.exact_names.get(name) {
+            Some(&Named::Fluid(i)) => Ok(&self.catalogue.fluids()[i]),
+            _ => self.catalogue.get(name),
+        }
     }
 
     /// A mixture of catalogue fluids `(id, fraction)` under `model`, with absolute h and s
@@ -204,8 +283,7 @@ impl Engines {
         model: Option<Model>,
         reference: Option<ReferenceState>,
     ) -> Result<Option<MixtureChoice>, ServiceError> {
-        let key = binodal_fluids::normalize(name);
-        let Some(&index) = self.blend_names.get(&key) else {
+        let Some(index) = self.blend_index(name) else {
             return Ok(None);
         };
         let blend = &self.catalogue.blends()[index];
@@ -309,7 +387,7 @@ impl Engines {
         model: Option<Model>,
         reference: Option<ReferenceState>,
     ) -> Result<Chosen<'_>, ServiceError> {
-        let fluid = self.catalogue.get(name)?;
+        let fluid = self.fluid_record(name)?;
         let model = model.unwrap_or(self.default_model);
         let tc = fluid.constants.critical_temperature_k;
         let zero_celsius_applies = tc * (1.0 - binodal_eos::NEAR_CRITICAL_BAND) > 273.15;

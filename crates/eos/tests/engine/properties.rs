@@ -9,7 +9,7 @@ fn finite_state(s: &binodal_eos::State) -> bool {
     [
         p.density_kg_per_m3,
         p.compressibility,
-        p.fugacity_coefficient,
+        p.fugacity_coefficient(),
         p.residual_enthalpy_j_per_mol,
     ]
     .iter()
