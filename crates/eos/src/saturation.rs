@@ -257,13 +257,20 @@ impl PureEos {
     /// Vapor pressure at `temperature_k`, Pa, from the triple point (or 0.3 Tc) to the
     /// near-critical band: from the engine's saturation curve where it has one that covers
     /// the temperature, else from the full solver.
+    #[inline]
     pub fn saturation_pressure(&self, temperature_k: f64) -> Result<f64, Error> {
         // The curve's range (the minimum temperature to Tc (1 - CURVE_CRITICAL_BAND)) lies
         // inside the range the checks below accept, and NaN is in no range: a temperature the
-        // curve covers needs no other check.
+        // curve covers needs no other check. Inlined into callers, so that a curve lookup
+        // costs no call.
         if let Some(p) = self.curve_pressure(temperature_k) {
             return Ok(p);
         }
+        self.saturation_pressure_solved(temperature_k)
+    }
+
+    /// [`Self::saturation_pressure`] where the curve does not answer: checks, then the solver.
+    fn saturation_pressure_solved(&self, temperature_k: f64) -> Result<f64, Error> {
         let t = self.check_saturation_temperature(temperature_k)?;
         Ok(self.solve_saturation_pressure_unchecked(t)?.pressure)
     }

@@ -34,6 +34,7 @@ mod batch;
 mod convert;
 mod curves;
 mod engines;
+mod framing;
 mod limits;
 pub mod metrics;
 pub mod security;

@@ -685,9 +685,10 @@ fn status_in(headers: &http::HeaderMap) -> Option<(Code, String)> {
         .map(|status| (status.code(), status.message().to_owned()))
 }
 
-/// An answer's body, watched for the trailers that carry the call's status.
+/// An answer's body, watched for the trailers that carry the call's status, its data handed
+/// on in pieces where that saves a write (`crate::framing`).
 struct ObservedBody {
-    inner: Body,
+    inner: crate::framing::Pieced,
     pending: Pending,
 }
 
@@ -801,7 +802,12 @@ where
                 }
                 return Ok(response);
             }
-            Ok(response.map(|inner| Body::new(ObservedBody { inner, pending })))
+            Ok(response.map(|inner| {
+                Body::new(ObservedBody {
+                    inner: crate::framing::Pieced::new(inner),
+                    pending,
+                })
+            }))
         })
     }
 }
