@@ -239,7 +239,8 @@ mod tests {
 
     /// The single-root solve gives exactly the root the full solve reports, for cubics from
     /// known roots spread over many magnitudes (liquid roots down to 1e-7 of the vapor root),
-    /// nearly coincident pairs and triples, and cubics with one real root.
+    /// nearly coincident pairs and triples, cubics with one real root, negative and zero
+    /// roots, and exact double and triple roots.
     #[test]
     fn extreme_roots_match_the_full_solve() {
         let mut checked = 0;
@@ -286,6 +287,34 @@ mod tests {
             }
         }
         assert_eq!(checked, 40_000);
+        // Negative (spurious) roots, a zero root, exact double and triple roots.
+        for r in [
+            [-0.3, 0.02, 0.8],
+            [-1e-3, 1e-4, 0.95],
+            [0.0, 0.1, 0.9],
+            [-0.5, 0.0, 0.5],
+            [0.25, 0.25, 0.9],
+            [0.1, 0.7, 0.7],
+            [0.4, 0.4, 0.4],
+        ] {
+            let c2 = -(r[0] + r[1] + r[2]);
+            let c1 = r[0] * r[1] + r[0] * r[2] + r[1] * r[2];
+            let c0 = -r[0] * r[1] * r[2];
+            let full = solve_cubic(c2, c1, c0);
+            let (smallest, largest) = solve_cubic_extremes(c2, c1, c0);
+            assert_eq!(smallest.to_bits(), full.smallest().to_bits(), "{r:?}");
+            assert_eq!(largest.to_bits(), full.largest().to_bits(), "{r:?}");
+            assert_eq!(
+                solve_cubic_extreme(c2, c1, c0, Extreme::Smallest).to_bits(),
+                full.smallest().to_bits(),
+                "{r:?}"
+            );
+            assert_eq!(
+                solve_cubic_extreme(c2, c1, c0, Extreme::Largest).to_bits(),
+                full.largest().to_bits(),
+                "{r:?}"
+            );
+        }
     }
 
     /// Cubics built from known roots, including the nearly coincident pairs met near the

@@ -411,6 +411,32 @@ fn monomial(c: &[f64; STRIDE]) -> [f64; STRIDE] {
     a
 }
 
+/// One segment of a piecewise series: its monomial coefficients in the segment's variable `u`
+/// in [-1, 1], and the offset that gives `u` from the series variable `x` with one multiply
+/// and one subtraction, `u = 2 scale x - offset` (`offset = 2 scale lo + 2 i + 1` for segment
+/// `i` of a piece starting at `lo`). The build verifies the series with this same arithmetic
+/// ([`segment_variable`]), so the recorded deviation is that of the lookups.
+#[derive(Clone, Copy)]
+struct Segment {
+    coefficients: [f64; STRIDE],
+    offset: f64,
+}
+
+/// The segment holding `x` (clamped to the piece's segments `0..=last`) and the segment's
+/// variable `u` at `x`: the one mapping both the build's checks and the lookups use.
+#[inline]
+fn segment_variable(
+    x: f64,
+    lo: f64,
+    scale: f64,
+    last: usize,
+    segments: &[Segment],
+) -> (usize, f64) {
+    // `as usize` saturates: a rounding excursion below `lo` lands in the first segment.
+    let i = (((x - lo) * scale) as usize).min(last);
+    (i, x * (2.0 * scale) - segments[i].offset)
+}
+
 /// A piecewise polynomial on `[lo, hi]` with equal-width segments, interpolated as Chebyshev
 /// series and stored in monomial form.
 #[derive(Clone)]
@@ -421,8 +447,8 @@ struct Piecewise {
     count: usize,
     /// Segments per unit of the variable.
     scale: f64,
-    /// Monomial coefficients of each segment in its own variable `u` in [-1, 1].
-    segments: Vec<[f64; STRIDE]>,
+    /// Each segment's monomial coefficients in its own variable `u` in [-1, 1], with its offset.
+    segments: Vec<Segment>,
 }
 
 /// `cos(pi j / n)` for the Chebyshev extrema, `j = 0..=n` (from +1 down to -1).
@@ -439,12 +465,18 @@ impl Piecewise {
     /// A layout of `count` equal segments on `[lo, hi]`, each to be filled by
     /// [`Piecewise::fill_segment`] before it is evaluated.
     fn layout(lo: f64, hi: f64, count: usize) -> Piecewise {
+        let scale = count as f64 / (hi - lo);
         Piecewise {
             lo,
             hi,
             count,
-            scale: count as f64 / (hi - lo),
-            segments: vec![[0.0; STRIDE]; count],
+            scale,
+            segments: (0..count)
+                .map(|i| Segment {
+                    coefficients: [0.0; STRIDE],
+                    offset: 2.0 * scale * lo + (2 * i + 1) as f64,
+                })
+                .collect(),
         }
     }
 
@@ -502,18 +534,16 @@ impl Piecewise {
                 c
             };
         }
-        self.segments[s] = monomial(&coefficients);
+        self.segments[s].coefficients = monomial(&coefficients);
         Ok((values[CURVE_DEGREE], values[0]))
     }
 
     /// The series at `x`, which the caller keeps inside `[lo, hi]`.
     #[inline]
     fn eval(&self, x: f64) -> f64 {
-        let s = (x - self.lo) * self.scale;
-        // `as usize` saturates: a rounding excursion below `lo` lands in the first segment.
-        let i = (s as usize).min(self.segments.len() - 1);
-        let u = 2.0 * (s - i as f64) - 1.0;
-        estrin(&self.segments[i], u)
+        let last = self.segments.len() - 1;
+        let (i, u) = segment_variable(x, self.lo, self.scale, last, &self.segments);
+        estrin(&self.segments[i].coefficients, u)
     }
 
     /// The check points of segment `s`: the Chebyshev midpoints between its nodes.
@@ -545,7 +575,7 @@ struct Pieces {
     first: PieceMap,
     /// The maps of the pieces after the first (empty for most lines).
     rest: Vec<PieceMap>,
-    segments: Vec<[f64; STRIDE]>,
+    segments: Vec<Segment>,
     /// Pieces in all.
     count: usize,
 }
@@ -584,11 +614,9 @@ impl Pieces {
             }
             map = next;
         }
-        let s = (x - map.lo) * map.scale;
-        // `as usize` saturates: a rounding excursion below `lo` lands in the first segment.
-        let i = (s as usize).min(map.last);
-        let u = 2.0 * (s - i as f64) - 1.0;
-        estrin(&self.segments[map.base + i], u)
+        let piece = &self.segments[map.base..];
+        let (i, u) = segment_variable(x, map.lo, map.scale, map.last, piece);
+        estrin(&piece[i].coefficients, u)
     }
 
     /// Segments of all pieces.
@@ -854,8 +882,10 @@ impl SaturationCurve {
         Ok(SaturationCurve {
             t_min,
             t_max,
-            p_min: y_lo.exp(),
-            p_max: y_hi.exp(),
+            // The same exponential as the lookups, so that the curve's end temperatures give
+            // exactly its end pressures.
+            p_min: exp_ln_pressure(y_lo),
+            p_max: exp_ln_pressure(y_hi),
             forward,
             inverse,
             report,
@@ -1158,26 +1188,24 @@ const EXP2_FRACTIONS: [f64; 256] = [
     1.9891988469672663,
     1.9945921121709402,
 ];
-/// `ln 2 / 256`.
-const LN2_256: f64 = 0.0027076061740622863;
+/// `ln 2 / 256`, split so that `k * LN2_256_HIGH` is exact for `|k| < 2^20`.
+const LN2_256_HIGH: f64 = 0.0027076061737716373;
+/// The rest of `ln 2 / 256`.
+const LN2_256_LOW: f64 = 2.9064910585985925e-13;
 /// `256 / ln 2`.
 const TWO_HUNDRED_FIFTY_SIX_OVER_LN2: f64 = 369.3299304675746;
 
-/// `e^y` for a curve's `ln P`, for `|y| < 700`. Written out so that it inlines into the
-/// lookup with a short chain of dependent operations: `y = (256 m + j) ln2/256 + r` with
-/// `|r| <= ln2/512`, then `2^m 2^(j/256) e^r` from a table of 256 values (2 KiB) and the
-/// Taylor series of `e^r` to `r^4` (truncation below 4e-17).
-///
-/// The reduction `r = y - k ln2/256` takes one rounded product, not the usual exact two-part
-/// one, to save a dependent step: the product's rounding (half a unit in the last place of
-/// `y`) and the rounding of the constant (times `k`) make the relative error grow with `|y|`,
-/// to at most 7.5e-15 for `|y| <= 40` (vapor pressures from 4e-18 Pa to 2e17 Pa; measured
-/// 5.0e-15 against the library's `exp`). The curves are accepted at 1e-9
-/// ([`CURVE_TOLERANCE`]) and verified to about 1e-11 in `ln P` before this step: the
-/// exponential adds nothing measurable.
+/// `e^y` for a curve's `ln P`, within 2 units in the last place (tested against the
+/// library's `exp`). Written out so that it inlines into the lookup: `y = (256 m + j) ln2/256
+/// + r` with `|r| <= ln2/512` (the reduction exact, `ln2/256` in two parts), then
+/// `2^m 2^(j/256) e^r` from a table of 256 values (2 KiB) and the Taylor series of `e^r` to
+/// `r^4` (truncation below 4e-17). Outside `|y| < 700` (no curve holds such a pressure) it
+/// hands over to the library.
 #[inline]
 pub(crate) fn exp_ln_pressure(y: f64) -> f64 {
-    debug_assert!(y.abs() < 700.0, "ln P = {y}");
+    if !(y.abs() < 700.0) {
+        return y.exp();
+    }
     // Round to the nearest integer by adding 1.5 * 2^52: the sum's last mantissa bits are
     // then the integer, in two's complement below the 1.5 (no rounding instruction on
     // baseline x86-64, and no saturating float-to-integer conversion).
@@ -1185,7 +1213,7 @@ pub(crate) fn exp_ln_pressure(y: f64) -> f64 {
     let shifted = y * TWO_HUNDRED_FIFTY_SIX_OVER_LN2 + ROUNDER;
     let k = (shifted.to_bits() as i64).wrapping_sub(ROUNDER.to_bits() as i64);
     let kn = shifted - ROUNDER;
-    let r = y - kn * LN2_256;
+    let r = (y - kn * LN2_256_HIGH) - kn * LN2_256_LOW;
     let r2 = r * r;
     let series = r + r2 * (0.5 + r * (1.0 / 6.0) + r2 * (1.0 / 24.0));
     let scale =
@@ -1252,13 +1280,23 @@ impl PureEos {
 
     /// This engine using `curve`, which must have been built from an engine with the same
     /// fluid and model (engines that differ only in reference state share one curve).
+    ///
+    /// # Panics
+    ///
+    /// If the curve's temperature range does not lie inside this engine's saturation range:
+    /// lookups trust a temperature inside the curve's range without other checks, so a curve
+    /// from another fluid would give wrong answers silently.
     pub fn with_shared_curve(mut self, curve: Arc<SaturationCurve>) -> PureEos {
         // Lookups trust a temperature inside the curve's range without other checks
         // (`saturation_pressure`), so the range must lie inside this engine's.
-        debug_assert!(
+        assert!(
             curve.t_min >= self.minimum_temperature_k()
                 && curve.t_max <= self.saturation_temperature_limit_k(),
-            "a curve from another fluid or model"
+            "with_shared_curve: a curve for {:?} K does not fit an engine for {} K to {} K \
+             (a curve built for another fluid or model)",
+            (curve.t_min, curve.t_max),
+            self.minimum_temperature_k(),
+            self.saturation_temperature_limit_k(),
         );
         self.curve = Some(curve);
         self
@@ -1304,21 +1342,27 @@ mod tests {
     use super::*;
 
     /// The lookup's exponential agrees with the library's `exp` (correctly rounded to within
-    /// one unit in the last place) within the bound its documentation derives (7.5e-15
-    /// relative for `|y| <= 40`), over every `ln P` a curve can hold (vapor pressures from
-    /// 4e-18 Pa to 2e17 Pa) and at the table's nodes.
+    /// one unit in the last place) within 2 units in the last place, over every `ln P` a curve
+    /// can hold (vapor pressures from 4e-18 Pa to 2e17 Pa), at the table's nodes and at the
+    /// hand-over to the library.
     #[test]
     fn curve_exponential_matches_the_library() {
         let mut worst: f64 = 0.0;
         let mut y = -40.0;
         while y <= 40.0 {
-            for v in [y, y + 0.5 * LN2_256, -y] {
+            for v in [y, y + 0.5 * LN2_256_HIGH, -y] {
                 let (fast, exact) = (exp_ln_pressure(v), v.exp());
                 worst = worst.max(((fast - exact) / exact).abs());
             }
             y += 1.0e-4;
         }
-        assert!(worst <= 7.5e-15, "worst relative difference {worst:e}");
+        assert!(
+            worst <= 2.0 * f64::EPSILON,
+            "worst relative difference {worst:e}"
+        );
+        for y in [-700.5, 700.5, f64::NAN] {
+            assert_eq!(exp_ln_pressure(y).to_bits(), y.exp().to_bits(), "{y}");
+        }
         assert_eq!(exp_ln_pressure(0.0), 1.0);
     }
 }

@@ -414,7 +414,9 @@ impl PureEos {
     }
 
     /// [`Self::residual`] with the temperature terms already computed; also returns the
-    /// log term `I` (the same at this root whether written in Z and B or in v/b).
+    /// log term `I` (algebraically the same at this root whether written in Z and B or in v/b;
+    /// the two forms agree to rounding, about 1e-13 relative where the logarithm's argument
+    /// is near 1).
     fn residual_at(&self, at: &AtTemperature, p: f64, z: f64) -> (Residual, f64) {
         let (t, rt, (a, da, _)) = (at.t, at.rt, at.attraction);
         let big_a = a * p / (rt * rt);
@@ -449,7 +451,7 @@ impl PureEos {
         let t = at.t;
         let (untranslated, i) = self.residual_at(at, p, z);
         let res = self.translated_at(at, p, untranslated);
-        let v_eos = z * at.rt / p;
+        let v_eos = z * R * t / p;
         let v = v_eos - at.shift.0;
         let mut out = PhaseProperties {
             molar_volume_m3_per_mol: v,
@@ -480,8 +482,8 @@ impl PureEos {
     }
 
     /// (cv, cp) in J/(mol K) at the temperature of `at`, pressure `p` and untranslated molar
-    /// volume `v`, where `i` is the log term of the root (`I` of `log_term` at Z and B, equal
-    /// to it at v/b and 1). Translation adds `T P d2c/dT2` to cp, and cv follows from the
+    /// volume `v`, where `i` is the log term of the root (`I` of `log_term` at Z and B,
+    /// algebraically equal to it at v/b and 1; computed once per state). Translation adds `T P d2c/dT2` to cp, and cv follows from the
     /// translated `(dP/dT)_V = (dP/dT)_Veos + (dP/dVeos) dc/dT`.
     fn heat_capacities(
         &self,

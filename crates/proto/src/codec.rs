@@ -5,7 +5,8 @@
 //! - **Encoding** sizes the outgoing buffer once from the message's encoded length. tonic
 //!   starts each message in an 8 KiB buffer and `prost` writes field by field, so a large
 //!   answer grew its buffer by doubling, copying what was written at every step. Reserving
-//!   `encoded_len()` first costs one pass over the lengths (constant time per packed array).
+//!   `encoded_len()` first costs a pass over the lengths (constant time per packed array;
+//!   `prost`'s own `encode` makes a second one to check the space).
 //! - **Decoding** takes the received message as one contiguous `Bytes` (a split of tonic's
 //!   buffer, no copy) and decodes from its slice, so that each element of a packed array is
 //!   read with a bounds check on a plain slice instead of through tonic's length-limited

@@ -1,13 +1,14 @@
 //! How an answer's bytes are handed to HTTP/2: mid-sized answers in pieces small enough to be
 //! copied into the connection's write buffer.
 //!
-//! The HTTP/2 library (`h2`) copies a DATA frame of under 256 bytes into the connection's
-//! write buffer, where the answers of many calls collect and leave in one write. A larger
-//! frame it keeps aside ("chains") and writes out, with whatever is buffered, before it
-//! accepts the next frame: every answer of 256 bytes or more costs a write system call of
-//! its own. Under load that was the largest cost of a single-state answer (about 1 KB) over
-//! a health check's (7 bytes): measured with `binodal-load` at 2 connections and 32 calls in
-//! flight (`docs/benchmarks.md`).
+//! The HTTP/2 library (`h2`), writing to a socket that takes vectored writes (plain TCP and
+//! rustls TLS both do), copies a DATA frame of under 256 bytes into the connection's write
+//! buffer, where the answers of many calls collect and leave in one write. A larger frame it
+//! keeps aside ("chains") and writes out, with whatever is buffered, before it accepts the
+//! next frame: every answer of 256 bytes or more costs a write system call of its own. Under
+//! load that is one of the costs of a single-state answer (about 1 KB) over a health check's
+//! (2 bytes, 7 with the gRPC message header): measured with `binodal-load` at 2 connections
+//! and 32 calls in flight (`docs/benchmarks.md`, "End to end").
 //!
 //! [`Pieced`] hands an answer's data of up to [`LARGEST_PIECED`] bytes to HTTP/2 in pieces of
 //! at most [`PIECE`] bytes (the pieces are views of the same buffer, not copies). Larger data
@@ -94,6 +95,7 @@ impl http_body::Body for Pieced {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use http_body::Body as _;
     use http_body_util::BodyExt as _;
 
     /// Every byte arrives, in order, in pieces of at most `PIECE` bytes for mid-sized data and
@@ -124,12 +126,52 @@ mod tests {
                 frames += 1;
             }
             assert_eq!(received, data, "{len} bytes");
-            let expected_frames = match len {
-                0 => frames, // an empty body may or may not yield an empty frame
-                l if l > PIECE && l <= LARGEST_PIECED => l.div_ceil(PIECE),
-                _ => 1,
-            };
-            assert_eq!(frames, expected_frames, "{len} bytes");
+            match len {
+                // An empty body yields at most one (empty) frame.
+                0 => assert!(frames <= 1, "{frames} frames for no data"),
+                l if l > PIECE && l <= LARGEST_PIECED => {
+                    assert_eq!(frames, l.div_ceil(PIECE), "{len} bytes")
+                }
+                _ => assert_eq!(frames, 1, "{len} bytes"),
+            }
         }
+    }
+
+    /// A gRPC answer's shape: data, then trailers with the status. The trailers come after
+    /// the last piece, and the body does not say it has ended while pieces remain.
+    #[tokio::test]
+    async fn trailers_follow_the_last_piece() {
+        let data = Bytes::from(vec![7u8; 1052]);
+        let mut trailers = http::HeaderMap::new();
+        trailers.insert("grpc-status", http::HeaderValue::from_static("0"));
+        let frames = vec![
+            Ok::<_, tonic::Status>(Frame::data(data.clone())),
+            Ok(Frame::trailers(trailers.clone())),
+        ];
+        let inner = http_body_util::StreamBody::new(frame_stream(frames));
+        let mut body = Pieced::new(Body::new(inner));
+        let mut received = Vec::new();
+        loop {
+            let frame = body.frame().await.expect("a frame").expect("no error");
+            match frame.into_data() {
+                Ok(chunk) => {
+                    received.extend_from_slice(&chunk);
+                    if received.len() < data.len() {
+                        assert!(!body.is_end_stream(), "pieces remain");
+                    }
+                }
+                Err(frame) => {
+                    assert_eq!(received, data.as_ref(), "every piece came first");
+                    assert_eq!(frame.into_trailers().ok(), Some(trailers));
+                    break;
+                }
+            }
+        }
+        assert!(body.frame().await.is_none(), "nothing after the trailers");
+    }
+
+    /// The frames as a stream.
+    fn frame_stream<T>(items: Vec<T>) -> tokio_stream::Iter<std::vec::IntoIter<T>> {
+        tokio_stream::iter(items)
     }
 }
