@@ -1196,14 +1196,15 @@ const LN2_256_LOW: f64 = 2.9064910585985925e-13;
 const TWO_HUNDRED_FIFTY_SIX_OVER_LN2: f64 = 369.3299304675746;
 
 /// `e^y` for a curve's `ln P`, within 2 units in the last place (tested against the
-/// library's `exp`). Written out so that it inlines into the lookup: `y = (256 m + j) ln2/256
-/// + r` with `|r| <= ln2/512` (the reduction exact, `ln2/256` in two parts), then
+/// library's `exp`). Written out so that it inlines into the lookup: `y = (256 m + j)
+/// ln2/256 + r` with `|r| <= ln2/512` (the reduction exact, `ln2/256` in two parts), then
 /// `2^m 2^(j/256) e^r` from a table of 256 values (2 KiB) and the Taylor series of `e^r` to
-/// `r^4` (truncation below 4e-17). Outside `|y| < 700` (no curve holds such a pressure) it
-/// hands over to the library.
+/// `r^4` (truncation below 4e-17). Outside `|y| < 700` (no curve holds such a pressure), and
+/// for NaN, it hands over to the library.
 #[inline]
 pub(crate) fn exp_ln_pressure(y: f64) -> f64 {
-    if !(y.abs() < 700.0) {
+    let within = y.abs() < 700.0;
+    if !within {
         return y.exp();
     }
     // Round to the nearest integer by adding 1.5 * 2^52: the sum's last mantissa bits are
