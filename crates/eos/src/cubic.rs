@@ -237,6 +237,32 @@ mod tests {
         assert!(cube_root(f64::NAN).is_nan());
     }
 
+    /// The coefficients `(c2, c1, c0)` of the monic cubic with roots `r`.
+    fn monic(r: [f64; 3]) -> (f64, f64, f64) {
+        (
+            -(r[0] + r[1] + r[2]),
+            r[0] * r[1] + r[0] * r[2] + r[1] * r[2],
+            -r[0] * r[1] * r[2],
+        )
+    }
+
+    /// Asserts that the single-root solves give bit for bit the full solve's extremes.
+    fn assert_extremes_match(c2: f64, c1: f64, c0: f64) {
+        let full = solve_cubic(c2, c1, c0);
+        let expected = (full.smallest().to_bits(), full.largest().to_bits());
+        let (smallest, largest) = solve_cubic_extremes(c2, c1, c0);
+        let single = (
+            solve_cubic_extreme(c2, c1, c0, Extreme::Smallest).to_bits(),
+            solve_cubic_extreme(c2, c1, c0, Extreme::Largest).to_bits(),
+        );
+        assert_eq!(single, expected, "one root at a time, {c2} {c1} {c0}");
+        assert_eq!(
+            (smallest.to_bits(), largest.to_bits()),
+            expected,
+            "both extremes, {c2} {c1} {c0}"
+        );
+    }
+
     /// The single-root solve gives exactly the root the full solve reports, for cubics from
     /// known roots spread over many magnitudes (liquid roots down to 1e-7 of the vapor root),
     /// nearly coincident pairs and triples, cubics with one real root, negative and zero
@@ -259,30 +285,10 @@ mod tests {
                 1 => largest * (1.0 - 1e-9 * uniform()),
                 _ => smallest + (largest - smallest) * uniform(),
             };
-            let r = [smallest, middle, largest];
-            let c2 = -(r[0] + r[1] + r[2]);
-            let c1 = r[0] * r[1] + r[0] * r[2] + r[1] * r[2];
-            let c0 = -r[0] * r[1] * r[2];
-            // The same coefficients with the pair below the largest made complex.
+            // Three real roots, and a cubic with the pair below the largest made complex.
             let single = (-(largest) - 0.2, 0.01 + 0.2 * largest, -0.01 * largest);
-            for (c2, c1, c0) in [(c2, c1, c0), single] {
-                let full = solve_cubic(c2, c1, c0);
-                assert_eq!(
-                    solve_cubic_extreme(c2, c1, c0, Extreme::Largest).to_bits(),
-                    full.largest().to_bits(),
-                    "largest of {c2} {c1} {c0}"
-                );
-                assert_eq!(
-                    solve_cubic_extreme(c2, c1, c0, Extreme::Smallest).to_bits(),
-                    full.smallest().to_bits(),
-                    "smallest of {c2} {c1} {c0}"
-                );
-                let (smallest, largest) = solve_cubic_extremes(c2, c1, c0);
-                assert_eq!(
-                    (smallest.to_bits(), largest.to_bits()),
-                    (full.smallest().to_bits(), full.largest().to_bits()),
-                    "both extremes of {c2} {c1} {c0}"
-                );
+            for (c2, c1, c0) in [monic([smallest, middle, largest]), single] {
+                assert_extremes_match(c2, c1, c0);
                 checked += 1;
             }
         }
@@ -297,23 +303,8 @@ mod tests {
             [0.1, 0.7, 0.7],
             [0.4, 0.4, 0.4],
         ] {
-            let c2 = -(r[0] + r[1] + r[2]);
-            let c1 = r[0] * r[1] + r[0] * r[2] + r[1] * r[2];
-            let c0 = -r[0] * r[1] * r[2];
-            let full = solve_cubic(c2, c1, c0);
-            let (smallest, largest) = solve_cubic_extremes(c2, c1, c0);
-            assert_eq!(smallest.to_bits(), full.smallest().to_bits(), "{r:?}");
-            assert_eq!(largest.to_bits(), full.largest().to_bits(), "{r:?}");
-            assert_eq!(
-                solve_cubic_extreme(c2, c1, c0, Extreme::Smallest).to_bits(),
-                full.smallest().to_bits(),
-                "{r:?}"
-            );
-            assert_eq!(
-                solve_cubic_extreme(c2, c1, c0, Extreme::Largest).to_bits(),
-                full.largest().to_bits(),
-                "{r:?}"
-            );
+            let (c2, c1, c0) = monic(r);
+            assert_extremes_match(c2, c1, c0);
         }
     }
 
