@@ -450,3 +450,72 @@ impl Engines {
         })
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The blend index or fluid id a name resolves to through the normalizing look-ups
+    /// alone, and through the fast path.
+    fn resolutions(engines: &Engines, name: &str) -> [(Option<usize>, Option<String>); 2] {
+        let fluid_id = |record: Result<&FluidRecord, _>| record.ok().map(|r| r.id.clone());
+        let slow = match engines.blend_index_normalized(name) {
+            Some(i) => (Some(i), None),
+            None => (None, fluid_id(engines.catalogue.get(name))),
+        };
+        let fast = match engines.blend_index(name) {
+            Some(i) => (Some(i), None),
+            None => (None, fluid_id(engines.fluid_record(name))),
+        };
+        [slow, fast]
+    }
+
+    /// Every spelling the catalogue gives, and the same spellings in other case and
+    /// punctuation (which only normalization resolves), resolve through the fast path exactly
+    /// as through normalization; names the catalogue does not know resolve to nothing on both.
+    #[test]
+    fn fast_name_resolution_agrees_with_normalization() {
+        let engines = Engines::prepare(
+            Catalogue::builtin().clone(),
+            Model::PengRobinson1978,
+            ReferenceState::LiquidAtZeroCelsius,
+        );
+        let catalogue = engines.catalogue();
+        let mut spellings: Vec<String> = Vec::new();
+        for f in catalogue.fluids() {
+            spellings.extend([f.id.clone(), f.name.clone()]);
+            spellings.extend(f.ashrae_number.clone());
+            spellings.extend(f.aliases.iter().cloned());
+        }
+        for b in catalogue.blends() {
+            spellings.extend([b.id.clone(), b.name.clone()]);
+            spellings.extend(b.ashrae_number.clone());
+            spellings.extend(b.aliases.iter().cloned());
+        }
+        let mut resolved = 0;
+        for spelling in &spellings {
+            for name in [
+                spelling.clone(),
+                spelling.to_uppercase(),
+                spelling.replace('-', " "),
+                format!(" {spelling}."),
+            ] {
+                let [slow, fast] = resolutions(&engines, &name);
+                assert_eq!(fast, slow, "{name:?}");
+                resolved += usize::from(slow != (None, None));
+            }
+            assert!(
+                engines.exact_names.contains_key(spelling.as_str()),
+                "{spelling:?} has no fast entry"
+            );
+        }
+        assert_eq!(
+            resolved,
+            4 * spellings.len(),
+            "every variant names something"
+        );
+        for unknown in ["R-9999", "", "water vapour ice", "R-41O A"] {
+            assert_eq!(resolutions(&engines, unknown), [(None, None), (None, None)]);
+        }
+    }
+}
