@@ -257,14 +257,21 @@ impl PureEos {
     /// translation multiplies every phase's fugacity coefficient by `exp(-cP/RT)`, adds
     /// `T P dc/dT - P c` to the enthalpy and `P dc/dT` to the entropy.
     pub(crate) fn translated(&self, t: f64, p: f64, res: Residual) -> Residual {
-        self.translated_at(&self.at_temperature(t), p, res)
+        self.translated_with(t, R * t, self.volume_shift_at(t), p, res)
     }
 
-    /// [`Self::translated`] with the temperature terms already computed.
-    fn translated_at(&self, at: &AtTemperature, p: f64, res: Residual) -> Residual {
-        let (t, (c, dc, _)) = (at.t, at.shift);
+    /// [`Self::translated`] with `R T` and the translation `(c, dc/dT, d2c/dT2)` at `t`
+    /// already computed.
+    fn translated_with(
+        &self,
+        t: f64,
+        rt: f64,
+        (c, dc, _): (f64, f64, f64),
+        p: f64,
+        res: Residual,
+    ) -> Residual {
         Residual {
-            ln_phi: res.ln_phi - c * p / at.rt,
+            ln_phi: res.ln_phi - c * p / rt,
             h_res: res.h_res + (t * dc - c) * p,
             s_res: res.s_res + p * dc,
         }
@@ -348,15 +355,10 @@ impl PureEos {
         self.attraction(t).0 / (self.b * R * t)
     }
 
-    /// Dimensionless A and B at pressure `p` and the temperature of `at`.
-    fn ab(&self, at: &AtTemperature, p: f64) -> (f64, f64) {
-        (at.attraction.0 * p / (at.rt * at.rt), self.b * p / at.rt)
-    }
-
-    /// The compressibility cubic's coefficients `(c2, c1, c0)` and B at pressure `p` and the
-    /// temperature of `at`.
-    fn cubic_coefficients(&self, at: &AtTemperature, p: f64) -> ([f64; 3], f64) {
-        let (a, b) = self.ab(at, p);
+    /// The compressibility cubic's coefficients `(c2, c1, c0)` and B at pressure `p`, for
+    /// the attraction `a_t = a(T)` and `rt = R T`.
+    fn cubic_coefficients(&self, a_t: f64, rt: f64, p: f64) -> ([f64; 3], f64) {
+        let (a, b) = (a_t * p / (rt * rt), self.b * p / rt);
         let u = self.cubic.delta1 + self.cubic.delta2;
         let w = self.cubic.delta1 * self.cubic.delta2;
         let c2 = -(1.0 + b - u * b);
@@ -368,7 +370,7 @@ impl PureEos {
     /// Real compressibility roots at (T, P) that lie above B (V > b), ascending.
     /// Always returns at least one root for T > 0, P > 0.
     pub fn compressibility_roots(&self, t: f64, p: f64) -> CubicRoots {
-        let ([c2, c1, c0], b) = self.cubic_coefficients(&self.at_temperature(t), p);
+        let ([c2, c1, c0], b) = self.cubic_coefficients(self.attraction(t).0, R * t, p);
         let roots = solve_cubic(c2, c1, c0);
         if roots.count() == 3 && roots.smallest() <= b {
             // A spurious root at or below the co-volume: only the largest is physical.
@@ -381,7 +383,7 @@ impl PureEos {
     /// the temperature of `at`: the same root as [`Self::compressibility_roots`]'s
     /// `smallest()` or `largest()`, without polishing the roots not asked for.
     pub(crate) fn extreme_root(&self, at: &AtTemperature, p: f64, which: Extreme) -> f64 {
-        let ([c2, c1, c0], b) = self.cubic_coefficients(at, p);
+        let ([c2, c1, c0], b) = self.cubic_coefficients(at.attraction.0, at.rt, p);
         match which {
             Extreme::Largest => solve_cubic_extreme(c2, c1, c0, Extreme::Largest),
             Extreme::Smallest => {
@@ -410,15 +412,21 @@ impl PureEos {
 
     /// ln(phi), residual h and residual s of the root `z` at (T, P), untranslated.
     pub(crate) fn residual(&self, t: f64, p: f64, z: f64) -> Residual {
-        self.residual_at(&self.at_temperature(t), p, z).0
+        self.residual_with(t, R * t, self.attraction(t), p, z).0
     }
 
-    /// [`Self::residual`] with the temperature terms already computed; also returns the
-    /// log term `I` (algebraically the same at this root whether written in Z and B or in v/b;
-    /// the two forms agree to rounding, about 1e-13 relative where the logarithm's argument
-    /// is near 1).
-    fn residual_at(&self, at: &AtTemperature, p: f64, z: f64) -> (Residual, f64) {
-        let (t, rt, (a, da, _)) = (at.t, at.rt, at.attraction);
+    /// [`Self::residual`] with `R T` and `(a, da/dT, d2a/dT2)` at `t` already computed; also
+    /// returns the log term `I` (algebraically the same at this root whether written in Z and
+    /// B or in v/b; the two forms agree to rounding, about 1e-13 relative where the
+    /// logarithm's argument is near 1).
+    fn residual_with(
+        &self,
+        t: f64,
+        rt: f64,
+        (a, da, _): (f64, f64, f64),
+        p: f64,
+        z: f64,
+    ) -> (Residual, f64) {
         let big_a = a * p / (rt * rt);
         let big_b = self.b * p / rt;
         let i = self.log_term(z, big_b);
@@ -449,8 +457,8 @@ impl PureEos {
         z: f64,
     ) -> PhaseProperties {
         let t = at.t;
-        let (untranslated, i) = self.residual_at(at, p, z);
-        let res = self.translated_at(at, p, untranslated);
+        let (untranslated, i) = self.residual_with(at.t, at.rt, at.attraction, p, z);
+        let res = self.translated_with(at.t, at.rt, at.shift, p, untranslated);
         let v_eos = z * R * t / p;
         let v = v_eos - at.shift.0;
         let mut out = PhaseProperties {
@@ -520,18 +528,19 @@ impl PureEos {
 
     /// [`Self::stable_root`] with the temperature terms already computed.
     pub(crate) fn stable_root_at(&self, at: &AtTemperature, p: f64) -> f64 {
-        let ([c2, c1, c0], b) = self.cubic_coefficients(at, p);
+        let ([c2, c1, c0], b) = self.cubic_coefficients(at.attraction.0, at.rt, p);
         let (zl, zv) = solve_cubic_extremes(c2, c1, c0);
         // One root, or a spurious one at or below the co-volume (as in
         // `compressibility_roots`): the largest is the only physical root.
         if zl == zv || zl <= b {
             return zv;
         }
-        if self.residual_at(at, p, zl).0.ln_phi < self.residual_at(at, p, zv).0.ln_phi {
-            zl
-        } else {
-            zv
-        }
+        let ln_phi = |z| {
+            self.residual_with(at.t, at.rt, at.attraction, p, z)
+                .0
+                .ln_phi
+        };
+        if ln_phi(zl) < ln_phi(zv) { zl } else { zv }
     }
 
     /// Checks a temperature input: finite and positive.
