@@ -56,6 +56,20 @@ pub fn solve_cubic(c2: f64, c1: f64, c0: f64) -> CubicRoots {
     CubicRoots { roots, len: 3 }
 }
 
+/// The coefficients `[c2, c1, c0]` of the compressibility cubic `Z^3 + c2 Z^2 + c1 Z + c0 = 0`
+/// of the generic two-parameter cubic equation of state, for dimensionless `A = a P / (R T)^2`
+/// and `B = b P / (R T)` and the model's `delta1`, `delta2`: the one form pure fluids and
+/// mixtures share.
+#[inline]
+pub(crate) fn compressibility_cubic(a: f64, b: f64, delta1: f64, delta2: f64) -> [f64; 3] {
+    let (u, w) = (delta1 + delta2, delta1 * delta2);
+    [
+        -(1.0 + b - u * b),
+        a + w * b * b - u * b - u * b * b,
+        -(a * b + w * b * b + w * b * b * b),
+    ]
+}
+
 /// Which root of a cubic a caller needs.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Extreme {

@@ -2,7 +2,10 @@
 //! properties of a phase from its compressibility root.
 
 use crate::alpha::Alpha;
-use crate::cubic::{CubicRoots, Extreme, solve_cubic, solve_cubic_extreme, solve_cubic_extremes};
+use crate::cubic::{
+    CubicRoots, Extreme, compressibility_cubic, solve_cubic, solve_cubic_extreme,
+    solve_cubic_extremes,
+};
 use crate::error::{Error, ErrorKind, positive};
 use crate::fluid::{FluidConstants, GAS_CONSTANT as R, IdealGasCp, VolumeShift};
 use crate::model::{CubicConstants, Model};
@@ -359,12 +362,8 @@ impl PureEos {
     /// the attraction `a_t = a(T)` and `rt = R T`.
     fn cubic_coefficients(&self, a_t: f64, rt: f64, p: f64) -> ([f64; 3], f64) {
         let (a, b) = (a_t * p / (rt * rt), self.b * p / rt);
-        let u = self.cubic.delta1 + self.cubic.delta2;
-        let w = self.cubic.delta1 * self.cubic.delta2;
-        let c2 = -(1.0 + b - u * b);
-        let c1 = a + w * b * b - u * b - u * b * b;
-        let c0 = -(a * b + w * b * b + w * b * b * b);
-        ([c2, c1, c0], b)
+        let coefficients = compressibility_cubic(a, b, self.cubic.delta1, self.cubic.delta2);
+        (coefficients, b)
     }
 
     /// Real compressibility roots at (T, P) that lie above B (V > b), ascending.

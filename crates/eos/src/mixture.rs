@@ -476,10 +476,7 @@ impl Mixture {
         let rt = R * t;
         let (big_a, big_b) = (mp.a * p / (rt * rt), mp.b * p / rt);
         let (d1, d2) = self.constants();
-        let (u, w) = (d1 + d2, d1 * d2);
-        let c2 = -(1.0 + big_b - u * big_b);
-        let c1 = big_a + w * big_b * big_b - u * big_b - u * big_b * big_b;
-        let c0 = -(big_a * big_b + w * big_b * big_b + w * big_b * big_b * big_b);
+        let [c2, c1, c0] = crate::cubic::compressibility_cubic(big_a, big_b, d1, d2);
         let roots = crate::cubic::solve_cubic(c2, c1, c0);
         // The smallest (liquid) or largest (vapor) root above B; the largest root if none is.
         let mut physical = roots.as_slice().iter().copied().filter(|&z| z > big_b);

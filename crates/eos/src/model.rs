@@ -202,10 +202,7 @@ mod tests {
         for (model, zc_pub) in published_zc {
             let c = model.constants();
             let (a, b) = (c.omega_a, c.omega_b);
-            let (u, w) = (c.delta1 + c.delta2, c.delta1 * c.delta2);
-            let c2 = -(1.0 + b - u * b);
-            let c1 = a + w * b * b - u * b - u * b * b;
-            let c0 = -(a * b + w * b * b + w * b * b * b);
+            let [c2, c1, c0] = crate::cubic::compressibility_cubic(a, b, c.delta1, c.delta2);
             let zc = c.critical_compressibility();
             // (Z - zc)^3 = Z^3 - 3 zc Z^2 + 3 zc^2 Z - zc^3
             assert!((c2 + 3.0 * zc).abs() < 1e-12, "{model}");
