@@ -8,6 +8,12 @@
 //! Results in or near the solid region are flagged as estimated.
 
 use crate::cubic::Extreme;
+
+/// Lowest pressure at which a state is computed, Pa: far below the best laboratory vacuum
+/// (about 1e-10 Pa, common practice), and far enough above zero that the molar volume
+/// `Z R T / P` stays a finite number (at 1.8e-308 Pa it overflowed to infinity, found by the
+/// property tests).
+pub const MIN_STATE_PRESSURE_PA: f64 = 1e-12;
 use crate::curve::SolvePath;
 use crate::eos::{PhaseProperties, PureEos};
 use crate::error::{Error, positive};
@@ -193,9 +199,9 @@ impl PureEos {
         (lo, (5.0 * self.critical_temperature_k()).max(1500.0))
     }
 
-    /// Valid pressure range of [`PureEos::state`], Pa: above zero to 100 Pc.
+    /// Valid pressure range of [`PureEos::state`], Pa: [`MIN_STATE_PRESSURE_PA`] to 100 Pc.
     pub fn state_pressure_range_pa(&self) -> (f64, f64) {
-        (0.0, 100.0 * self.critical_pressure_pa())
+        (MIN_STATE_PRESSURE_PA, 100.0 * self.critical_pressure_pa())
     }
 
     /// Classifies (T, P) and computes the properties and margins there.
@@ -207,7 +213,7 @@ impl PureEos {
             return Err(Error::out_of_range("temperature_k", t, t_lo, t_hi, "K"));
         }
         let (p_lo, p_hi) = self.state_pressure_range_pa();
-        if p > p_hi {
+        if p < p_lo || p > p_hi {
             return Err(Error::out_of_range("pressure_pa", p, p_lo, p_hi, "Pa"));
         }
         let tc = self.critical_temperature_k();

@@ -163,6 +163,21 @@ impl Error {
     }
 }
 
+/// A number in a message: as written for ordinary magnitudes, in scientific notation below
+/// 1e-4 and from 1e15 up (so that 1.8e-308 does not print as 300 zeros).
+struct Number(f64);
+
+impl fmt::Display for Number {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let magnitude = self.0.abs();
+        if self.0 == 0.0 || !self.0.is_finite() || (1e-4..1e15).contains(&magnitude) {
+            write!(f, "{}", self.0)
+        } else {
+            write!(f, "{:e}", self.0)
+        }
+    }
+}
+
 impl fmt::Display for Error {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match &self.kind {
@@ -172,6 +187,7 @@ impl fmt::Display for Error {
                  pressures, above zero)"
             ),
             ErrorKind::NonPositive { field, value } => {
+                let value = Number(*value);
                 write!(f, "{field} = {value} must be greater than zero")
             }
             ErrorKind::OutOfRange {
@@ -182,7 +198,10 @@ impl fmt::Display for Error {
                 unit,
             } => write!(
                 f,
-                "{field} = {value} {unit} is outside the model's range: valid {min} {unit} to {max} {unit}"
+                "{field} = {} {unit} is outside the model's range: valid {} {unit} to {} {unit}",
+                Number(*value),
+                Number(*min),
+                Number(*max)
             ),
             ErrorKind::NearCritical {
                 field,
@@ -190,18 +209,21 @@ impl fmt::Display for Error {
                 limit,
                 critical,
                 unit,
-            } => write!(
-                f,
-                "{field} = {value} {unit} is within the near-critical band ({limit} {unit} to the critical \
-                 value {critical} {unit}) where the two saturated phases cannot be told apart; \
-                 valid up to {limit} {unit}"
-            ),
+            } => {
+                let (value, limit, critical) = (Number(*value), Number(*limit), Number(*critical));
+                write!(
+                    f,
+                    "{field} = {value} {unit} is within the near-critical band ({limit} {unit} to \
+                     the critical value {critical} {unit}) where the two saturated phases cannot \
+                     be told apart; valid up to {limit} {unit}"
+                )
+            }
             ErrorKind::OutsideEnvelope {
                 field,
                 value,
                 detail,
             } => {
-                write!(f, "{field} = {value}: {detail}")
+                write!(f, "{field} = {}: {detail}", Number(*value))
             }
             ErrorKind::UnknownModel { name } => write!(
                 f,
@@ -217,7 +239,7 @@ impl fmt::Display for Error {
                 value,
                 reason,
             } => {
-                write!(f, "{field} = {value} is not valid: {reason}")
+                write!(f, "{field} = {} is not valid: {reason}", Number(*value))
             }
             ErrorKind::MissingData { what } => write!(f, "missing data: {what}"),
             ErrorKind::NoConvergence { what, detail } => {

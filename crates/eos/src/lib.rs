@@ -52,7 +52,9 @@ mod model;
 mod saturation;
 
 pub use alpha::{Alpha, AlphaValue};
-pub use classify::{Margins, Phase, SATURATION_TOLERANCE, SolidBoundary, State};
+pub use classify::{
+    MIN_STATE_PRESSURE_PA, Margins, Phase, SATURATION_TOLERANCE, SolidBoundary, State,
+};
 pub use cubic::{CubicRoots, Extreme, solve_cubic, solve_cubic_extreme, solve_cubic_extremes};
 pub use curve::{
     BOUNDARY_CURVE_BAND, BOUNDARY_LIMIT_RESOLUTION_K, BoundaryCurves, BoundaryKind,

@@ -1175,8 +1175,14 @@ impl Mixture {
             ));
         }
         let (tc, pc) = self.pseudo_critical();
-        if p > 100.0 * pc {
-            return Err(Error::out_of_range("pressure_pa", p, 0.0, 100.0 * pc, "Pa"));
+        if !(crate::classify::MIN_STATE_PRESSURE_PA..=100.0 * pc).contains(&p) {
+            return Err(Error::out_of_range(
+                "pressure_pa",
+                p,
+                crate::classify::MIN_STATE_PRESSURE_PA,
+                100.0 * pc,
+                "Pa",
+            ));
         }
         let lines = [
             self.bubble_pressure(t),

@@ -11,7 +11,7 @@ fn bad_inputs_give_precise_errors() {
         fn(&PureEos) -> binodal_eos::Error,
         &'static [&'static str],
     );
-    let cases: [Case; 9] = [
+    let cases: [Case; 10] = [
         (
             "NaN temperature",
             |e| e.saturation_pressure(f64::NAN).unwrap_err(),
@@ -56,6 +56,15 @@ fn bad_inputs_give_precise_errors() {
             "state pressure too high",
             |e| e.state(300.0, 1e10).unwrap_err(),
             &["pressure_pa", "valid"],
+        ),
+        (
+            // Found by the property test: the molar volume overflowed to infinity here.
+            "state pressure too low",
+            |e| {
+                e.state(148.75543008920064, 1.834273335694461e-308)
+                    .unwrap_err()
+            },
+            &["pressure_pa", "1e-12", "valid"],
         ),
     ];
     for (what, call, fragments) in cases {
