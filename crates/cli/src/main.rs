@@ -23,7 +23,7 @@ use clap::{CommandFactory as _, Parser as _};
 
 use crate::cli::{Cli, Command, ShellArg};
 use crate::commands::margin::Margin;
-use crate::report::Document;
+use crate::report::{Document, OutputClosed};
 
 fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
@@ -37,7 +37,7 @@ fn main() -> ExitCode {
     };
     match run(cli) {
         Ok(code) => code,
-        Err(e) if is_broken_pipe(&e) => ExitCode::SUCCESS,
+        Err(e) if e.is::<OutputClosed>() => ExitCode::SUCCESS,
         Err(e) => {
             let mut stderr = std::io::stderr().lock();
             let _ = writeln!(stderr, "error: {e}");
@@ -55,15 +55,6 @@ fn main() -> ExitCode {
     }
 }
 
-/// True when the error comes from writing to a closed pipe (the reader stopped early).
-fn is_broken_pipe(error: &anyhow::Error) -> bool {
-    error.chain().any(|cause| {
-        cause
-            .downcast_ref::<std::io::Error>()
-            .is_some_and(|io| io.kind() == std::io::ErrorKind::BrokenPipe)
-    })
-}
-
 /// Prints a completion script; needs neither settings nor the server.
 fn completions(shell: ShellArg) -> anyhow::Result<ExitCode> {
     let shell = match shell {
@@ -74,8 +65,10 @@ fn completions(shell: ShellArg) -> anyhow::Result<ExitCode> {
     let mut script = Vec::new();
     clap_complete::generate(shell, &mut Cli::command(), "binodal", &mut script);
     let mut stdout = std::io::stdout().lock();
-    stdout.write_all(&script)?;
-    stdout.flush()?;
+    stdout
+        .write_all(&script)
+        .and_then(|()| stdout.flush())
+        .map_err(report::output_error)?;
     Ok(ExitCode::SUCCESS)
 }
 

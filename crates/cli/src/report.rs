@@ -7,6 +7,35 @@
 
 use std::io::Write as _;
 
+/// Standard output was closed by its reader (the output piped into `head`, say). The command
+/// ends with success: what the reader wanted was written.
+///
+/// Only errors from writing standard output become this marker. A broken pipe anywhere else (a
+/// connection the server closed, a refused TLS handshake) stays an error, so a call that never
+/// reached the service can never exit with success.
+#[derive(Debug, thiserror::Error)]
+#[error("standard output was closed by its reader")]
+pub struct OutputClosed;
+
+/// An error from writing standard output: a closed pipe becomes [`OutputClosed`].
+pub fn output_error(error: std::io::Error) -> anyhow::Error {
+    if error.kind() == std::io::ErrorKind::BrokenPipe {
+        anyhow::Error::new(OutputClosed)
+    } else {
+        anyhow::Error::new(error).context("cannot write standard output")
+    }
+}
+
+/// [`output_error`] for the CSV writer, whose errors wrap the I/O error.
+pub fn csv_output_error(error: csv::Error) -> anyhow::Error {
+    if let csv::ErrorKind::Io(io) = error.kind()
+        && io.kind() == std::io::ErrorKind::BrokenPipe
+    {
+        return anyhow::Error::new(OutputClosed);
+    }
+    anyhow::Error::new(error).context("cannot write standard output")
+}
+
 use binodal_proto::v1::{
     EquationOfState, FluidDescription, ModelAccuracy, Phase, ReferenceState, ResultBasis,
     SafetyClass,
@@ -347,11 +376,12 @@ impl Document {
     }
 
     /// Writes the rendering to standard output and standard error.
-    pub fn emit(&self, format: OutputFormat, units: UnitSystem) -> std::io::Result<()> {
+    pub fn emit(&self, format: OutputFormat, units: UnitSystem) -> anyhow::Result<()> {
         let rendered = self.render(format, units);
         let mut out = std::io::stdout().lock();
-        out.write_all(rendered.stdout.as_bytes())?;
-        out.flush()?;
+        out.write_all(rendered.stdout.as_bytes())
+            .and_then(|()| out.flush())
+            .map_err(output_error)?;
         if !rendered.stderr.is_empty() {
             let mut err = std::io::stderr().lock();
             err.write_all(rendered.stderr.as_bytes())?;
@@ -690,6 +720,21 @@ mod tests {
         };
         fluid.set_safety_class(class);
         fluid
+    }
+
+    #[test]
+    fn only_a_closed_standard_output_counts_as_closed_output() {
+        let pipe = || std::io::Error::from(std::io::ErrorKind::BrokenPipe);
+        assert!(output_error(pipe()).is::<OutputClosed>());
+        assert!(csv_output_error(csv::Error::from(pipe())).is::<OutputClosed>());
+
+        let full = std::io::Error::from(std::io::ErrorKind::StorageFull);
+        assert!(!output_error(full).is::<OutputClosed>());
+
+        // A broken pipe met by the transport (a server that dropped the connection, a refused
+        // TLS handshake) reaches `main` as a cause inside another error: it stays a failure.
+        let transport = anyhow::Error::new(pipe()).context("cannot reach https://[::1]:1");
+        assert!(!transport.is::<OutputClosed>());
     }
 
     #[test]

@@ -42,6 +42,7 @@ use tokio::time::Instant;
 use crate::cli::OutputFormat;
 use crate::client::Service;
 use crate::config::{AmbientOrigin, Settings};
+use crate::report::{csv_output_error, output_error};
 use crate::units::{
     Ambient, PressureKind, PressureReading, Temperature, UnitSystem, fmt_pressure, fmt_temperature,
     fmt_temperature_difference,
@@ -633,10 +634,11 @@ impl Printer {
             OutputFormat::Table => {
                 let mut out = std::io::stdout().lock();
                 if time.is_empty() {
-                    writeln!(out, "{:<9} {}", event_kind(event), event.message)?;
+                    writeln!(out, "{:<9} {}", event_kind(event), event.message)
                 } else {
-                    writeln!(out, "{time}  {:<9} {}", event_kind(event), event.message)?;
+                    writeln!(out, "{time}  {:<9} {}", event_kind(event), event.message)
                 }
+                .map_err(output_error)?;
             }
             OutputFormat::Json => {
                 let value = serde_json::json!({
@@ -653,22 +655,24 @@ impl Printer {
                     "quality_issue": issue,
                     "message": event.message,
                 });
-                writeln!(std::io::stdout().lock(), "{value}")?;
+                writeln!(std::io::stdout().lock(), "{value}").map_err(output_error)?;
             }
             OutputFormat::Csv => {
                 if let Some(writer) = &mut self.csv {
-                    writer.write_record([
-                        time.as_str(),
-                        &event_kind(event).to_lowercase(),
-                        &event.tag,
-                        &rule,
-                        &number(event.value),
-                        &number(event.limit),
-                        &transition,
-                        &priority,
-                        &issue,
-                        &event.message,
-                    ])?;
+                    writer
+                        .write_record([
+                            time.as_str(),
+                            &event_kind(event).to_lowercase(),
+                            &event.tag,
+                            &rule,
+                            &number(event.value),
+                            &number(event.limit),
+                            &transition,
+                            &priority,
+                            &issue,
+                            &event.message,
+                        ])
+                        .map_err(csv_output_error)?;
                 }
             }
         }
@@ -705,7 +709,7 @@ impl Printer {
                         "freezing_margin_k": m.freezing_margin_k,
                         "saturation_temperature_k": m.saturation_temperature_k,
                     });
-                    writeln!(std::io::stdout().lock(), "{value}")?;
+                    writeln!(std::io::stdout().lock(), "{value}").map_err(output_error)?;
                 }
                 _ => {
                     let units = self.units;
@@ -728,7 +732,8 @@ impl Printer {
                         difference(m.superheat_k),
                         m.critical_pressure_fraction,
                         difference(m.freezing_margin_k),
-                    )?;
+                    )
+                    .map_err(output_error)?;
                 }
             }
         }
@@ -740,9 +745,9 @@ impl Printer {
 
     fn finish(&mut self) -> anyhow::Result<()> {
         if let Some(writer) = &mut self.csv {
-            writer.flush()?;
+            writer.flush().map_err(output_error)?;
         }
-        std::io::stdout().flush()?;
+        std::io::stdout().flush().map_err(output_error)?;
         Ok(())
     }
 }
