@@ -27,6 +27,9 @@ const MAX_MESSAGE: usize = 256 * 1024 * 1024;
 pub enum Scenario {
     /// `grpc.health.v1.Health/Check` of the phase service: the framework floor.
     Health,
+    /// The same health check once more, as a scenario of its own: its ratio to the floor shows
+    /// how far two measurements of one RPC differ in the same run (the run's noise).
+    Control,
     /// `GetState`.
     State,
     /// `GetStateBatch`.
@@ -40,6 +43,7 @@ impl Scenario {
     pub fn name(self) -> &'static str {
         match self {
             Scenario::Health => "health",
+            Scenario::Control => "control",
             Scenario::State => "state",
             Scenario::Batch => "state-batch",
             Scenario::Saturation => "saturation",
@@ -331,7 +335,7 @@ impl Caller {
     async fn call(&mut self, k: usize, measure: bool) -> Result<(u64, u64, usize), tonic::Status> {
         let size = |m: &dyn Fn() -> usize| if measure { m() } else { 0 };
         match self.scenario {
-            Scenario::Health => {
+            Scenario::Health | Scenario::Control => {
                 let answer = self
                     .health
                     .check(HealthCheckRequest {
