@@ -1,8 +1,9 @@
 //! `binodal`: the engineers' command-line client of the binodal phase-state service.
 //!
-//! Exit codes: 0 success (also when standard output is closed early, e.g. piped into `head`);
-//! 1 an error (printed once, with its causes); 2 a usage error (from the argument parser);
-//! for `health`, 1 when the service is reachable but not serving.
+//! Exit codes: 0 success (also when the reader closes standard output or standard error early,
+//! e.g. piped into `head`); 1 an error (printed once, with its causes), also when a call failed
+//! on a broken connection; 2 a usage error (from the argument parser); for `health`, 1 when the
+//! service is reachable but not serving, whether or not the answer could be printed.
 
 mod cli;
 mod client;
@@ -129,7 +130,11 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
             } => commands::diagram::run(&settings, &name, kind, &out, &marks).await?,
             Command::Health => {
                 let health = commands::health::run(&settings).await?;
-                health.document.emit(settings.output, settings.units)?;
+                match health.document.emit(settings.output, settings.units) {
+                    // A closed output does not turn "not serving" into success.
+                    Err(e) if e.is::<OutputClosed>() => {}
+                    emitted => emitted?,
+                }
                 return Ok(if health.serving {
                     ExitCode::SUCCESS
                 } else {

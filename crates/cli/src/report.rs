@@ -7,22 +7,34 @@
 
 use std::io::Write as _;
 
-/// Standard output was closed by its reader (the output piped into `head`, say). The command
-/// ends with success: what the reader wanted was written.
+use binodal_proto::v1::{
+    EquationOfState, FluidDescription, ModelAccuracy, Phase, ReferenceState, ResultBasis,
+    SafetyClass,
+};
+use comfy_table::{CellAlignment, ContentArrangement, Table, presets};
+use serde_json::{Map, Value as Json, json};
+
+use crate::cli::OutputFormat;
+use crate::units::{Quantity, UnitSystem, convert, fmt_pressure, format_quantity};
+
+/// The output was closed by its reader (standard output piped into `head`, say, or standard
+/// error, where CSV output puts the basis and caution). The command ends with success: the
+/// reader stopped reading.
 ///
-/// Only errors from writing standard output become this marker. A broken pipe anywhere else (a
+/// Only errors from writing the output become this marker. A broken pipe anywhere else (a
 /// connection the server closed, a refused TLS handshake) stays an error, so a call that never
 /// reached the service can never exit with success.
 #[derive(Debug, thiserror::Error)]
-#[error("standard output was closed by its reader")]
+#[error("the output was closed by its reader")]
 pub struct OutputClosed;
 
-/// An error from writing standard output: a closed pipe becomes [`OutputClosed`].
+/// An error from writing standard output or standard error: a closed pipe becomes
+/// [`OutputClosed`].
 pub fn output_error(error: std::io::Error) -> anyhow::Error {
     if error.kind() == std::io::ErrorKind::BrokenPipe {
         anyhow::Error::new(OutputClosed)
     } else {
-        anyhow::Error::new(error).context("cannot write standard output")
+        anyhow::Error::new(error).context("cannot write the output")
     }
 }
 
@@ -33,18 +45,8 @@ pub fn csv_output_error(error: csv::Error) -> anyhow::Error {
     {
         return anyhow::Error::new(OutputClosed);
     }
-    anyhow::Error::new(error).context("cannot write standard output")
+    anyhow::Error::new(error).context("cannot write the output")
 }
-
-use binodal_proto::v1::{
-    EquationOfState, FluidDescription, ModelAccuracy, Phase, ReferenceState, ResultBasis,
-    SafetyClass,
-};
-use comfy_table::{CellAlignment, ContentArrangement, Table, presets};
-use serde_json::{Map, Value as Json, json};
-
-use crate::cli::OutputFormat;
-use crate::units::{Quantity, UnitSystem, convert, fmt_pressure, format_quantity};
 
 /// Printed under every answer (a JSON field `advisory`).
 pub const ADVISORY: &str = "Results are advisory: they come from cubic equations of state and \
@@ -384,7 +386,8 @@ impl Document {
             .map_err(output_error)?;
         if !rendered.stderr.is_empty() {
             let mut err = std::io::stderr().lock();
-            err.write_all(rendered.stderr.as_bytes())?;
+            err.write_all(rendered.stderr.as_bytes())
+                .map_err(output_error)?;
         }
         Ok(())
     }
@@ -726,6 +729,12 @@ mod tests {
     fn only_a_closed_standard_output_counts_as_closed_output() {
         let pipe = || std::io::Error::from(std::io::ErrorKind::BrokenPipe);
         assert!(output_error(pipe()).is::<OutputClosed>());
+        // `main` still recognises it under added context.
+        assert!(
+            output_error(pipe())
+                .context("writing a table")
+                .is::<OutputClosed>()
+        );
         assert!(csv_output_error(csv::Error::from(pipe())).is::<OutputClosed>());
 
         let full = std::io::Error::from(std::io::ErrorKind::StorageFull);

@@ -885,9 +885,11 @@ pub async fn run(settings: &Settings, args: &WatchArgs) -> anyhow::Result<ExitCo
             Err(status) => break Err(service.error(status)),
         }
     };
-    printer.finish()?;
+    // A failed stream outweighs an output closed meanwhile: it is reported first.
+    let finished = printer.finish();
     let skipped = sender.await.context("the reading task failed")?;
     ended?;
+    finished?;
     let t = &printer.tally;
     eprintln!(
         "{} readings played: {} raised, {} cleared, {} quality events, {} stale tags; {} rows \

@@ -818,6 +818,35 @@ fn a_closed_pipe_is_not_an_error() {
 }
 
 #[test]
+fn a_closed_standard_error_is_not_an_error() {
+    // CSV output puts the basis and caution on standard error; a reader that closed it has
+    // stopped reading, as with a closed standard output.
+    let mut command = binodal();
+    command.arg("--server").arg(server_url()).args([
+        "--output",
+        "csv",
+        "state",
+        "R-134a",
+        "--temperature",
+        "25C",
+        "--pressure",
+        "12bar",
+    ]);
+    let mut child = command.spawn().expect("start binodal");
+    drop(child.stderr.take());
+    let mut stdout = String::new();
+    let mut pipe = child.stdout.take().expect("stdout");
+    let reader = std::thread::spawn(move || {
+        pipe.read_to_string(&mut stdout).ok();
+        stdout
+    });
+    let run = finish(child);
+    let stdout = reader.join().expect("stdout reader");
+    assert!(run.status.success(), "exit {:?}", run.status);
+    assert!(stdout.contains("subcooled"), "{stdout}");
+}
+
+#[test]
 fn completions_and_help() {
     let script = run_bare(&["completions", "bash"]);
     let script = script.ok();
