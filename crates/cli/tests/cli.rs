@@ -843,6 +843,8 @@ fn a_closed_standard_error_is_not_an_error() {
     let run = finish(child);
     let stdout = reader.join().expect("stdout reader");
     assert!(run.status.success(), "exit {:?}", run.status);
+    // 12 bar lies above R-134a's saturation pressure at 25 °C (0.665 MPa, the R-134a table, as in
+    // `state_in_table_json_and_csv`): a subcooled liquid.
     assert!(stdout.contains("subcooled"), "{stdout}");
 }
 
