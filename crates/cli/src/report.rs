@@ -726,7 +726,7 @@ mod tests {
     }
 
     #[test]
-    fn only_a_closed_standard_output_counts_as_closed_output() {
+    fn only_a_closed_output_counts_as_closed_output() {
         let pipe = || std::io::Error::from(std::io::ErrorKind::BrokenPipe);
         assert!(output_error(pipe()).is::<OutputClosed>());
         // `main` still recognises it under added context.
