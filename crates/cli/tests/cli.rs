@@ -25,6 +25,17 @@ use util::{
 /// 0 °C in kelvin (ISO 80000-5).
 const CELSIUS_ZERO_K: f64 = 273.15;
 
+/// R-134a at 25 °C and 12 bar(a): above the saturation pressure at 25 °C (0.665 MPa, the
+/// R-134a table below), so a subcooled liquid.
+const SUBCOOLED_R134A: [&str; 6] = [
+    "state",
+    "R-134a",
+    "--temperature",
+    "25C",
+    "--pressure",
+    "12bar",
+];
+
 // Rows (T/K, P/MPa) of the R-134a table (the saturated-liquid table matching the NIST Chemistry
 // WebBook export, crates/fluids/data/reference/r134a_saturated_liquid.csv).
 const R134A_298_05: (f64, f64) = (298.05, 0.66334);
@@ -271,20 +282,9 @@ fn subcooling_from_a_gauge_reading_against_the_tabulated_saturation_temperature(
 
 #[test]
 fn state_in_table_json_and_csv() {
-    // R-134a at 25 °C and 12 bar(a): above the saturation pressure at 25 °C (0.665 MPa, the
-    // R-134a table), so a subcooled liquid. Saturation temperature at 1.2 MPa from the table rows
+    // Subcooled (see `SUBCOOLED_R134A`). Saturation temperature at 1.2 MPa from the table rows
     // (319.39 K, 1.1978 MPa) and (319.61 K, 1.2045 MPa), ln P interpolated.
-    let answer = run(&[
-        "state",
-        "R-134a",
-        "--temperature",
-        "25C",
-        "--pressure",
-        "12bar",
-        "--output",
-        "json",
-    ])
-    .json();
+    let answer = run(&[&SUBCOOLED_R134A[..], &["--output", "json"]].concat()).json();
     assert_eq!(answer["phase"], "subcooled-liquid");
     let table_t = temperature_between(R134A_319_39, R134A_319_61, 1.2);
     let slope = log_pressure_slope(R134A_319_39, R134A_319_61);
@@ -321,32 +321,14 @@ fn state_in_table_json_and_csv() {
     }
     assert_eq!(answer["estimated"], false);
 
-    let text = run(&[
-        "state",
-        "R-134a",
-        "--temperature",
-        "25C",
-        "--pressure",
-        "12bar",
-    ]);
+    let text = run(&SUBCOOLED_R134A);
     let text = text.ok();
     assert!(text.contains("phase"), "{text}");
     assert!(text.contains("subcooled-liquid"), "{text}");
     let density = format!("{:.3} kg/m3", number(&answer, "density_kg_per_m3"));
     assert!(text.contains(&density), "table lacks {density}:\n{text}");
 
-    let csv_run = run(&[
-        "state",
-        "R-134a",
-        "--temperature",
-        "25C",
-        "--pressure",
-        "12bar",
-        "--output",
-        "csv",
-        "--units",
-        "si",
-    ]);
+    let csv_run = run(&[&SUBCOOLED_R134A[..], &["--output", "csv", "--units", "si"]].concat());
     let mut reader = csv::Reader::from_reader(csv_run.ok().as_bytes());
     let headers = reader.headers().expect("header").clone();
     let row = reader.records().next().expect("one row").expect("CSV row");
@@ -815,22 +797,16 @@ fn a_closed_standard_error_is_not_an_error() {
     // CSV output puts the basis and caution on standard error; a reader that closed it has
     // stopped reading, as with a closed standard output.
     let mut command = binodal();
-    command.arg("--server").arg(server_url()).args([
-        "--output",
-        "csv",
-        "state",
-        "R-134a",
-        "--temperature",
-        "25C",
-        "--pressure",
-        "12bar",
-    ]);
+    command
+        .arg("--server")
+        .arg(server_url())
+        .args(["--output", "csv"])
+        .args(SUBCOOLED_R134A);
     let mut child = command.spawn().expect("start binodal");
     drop(child.stderr.take());
     let run = finish(child);
     assert!(run.status.success(), "exit {:?}", run.status);
-    // 12 bar lies above R-134a's saturation pressure at 25 °C (0.665 MPa, the R-134a table, as in
-    // `state_in_table_json_and_csv`): a subcooled liquid.
+    // A subcooled liquid (see `SUBCOOLED_R134A`).
     assert!(run.stdout.contains("subcooled"), "{}", run.stdout);
 }
 
