@@ -3,7 +3,8 @@
 //! Exit codes: 0 success (also when the reader closes standard output or standard error early,
 //! e.g. piped into `head`); 1 an error (printed once, with its causes), also when a call failed
 //! on a broken connection; 2 a usage error (from the argument parser); for `health`, 1 when the
-//! service is reachable but not serving, whether or not the answer could be printed.
+//! service is reachable but not serving, and for `watch`, 1 when rows were skipped, whether or not
+//! the answer could be printed.
 
 mod cli;
 mod client;
@@ -24,7 +25,7 @@ use clap::{CommandFactory as _, Parser as _};
 
 use crate::cli::{Cli, Command, ShellArg};
 use crate::commands::margin::Margin;
-use crate::report::{Document, OutputClosed};
+use crate::report::{Document, is_output_closed};
 
 fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
@@ -38,7 +39,7 @@ fn main() -> ExitCode {
     };
     match run(cli) {
         Ok(code) => code,
-        Err(e) if e.is::<OutputClosed>() => ExitCode::SUCCESS,
+        Err(e) if is_output_closed(&e) => ExitCode::SUCCESS,
         Err(e) => {
             let mut stderr = std::io::stderr().lock();
             let _ = writeln!(stderr, "error: {e}");
@@ -132,7 +133,7 @@ fn run(cli: Cli) -> anyhow::Result<ExitCode> {
                 let health = commands::health::run(&settings).await?;
                 match health.document.emit(settings.output, settings.units) {
                     // A closed output does not turn "not serving" into success.
-                    Err(e) if e.is::<OutputClosed>() => {}
+                    Err(e) if is_output_closed(&e) => {}
                     emitted => emitted?,
                 }
                 return Ok(if health.serving {

@@ -28,6 +28,8 @@ use std::io::{BufReader, Read, Write};
 use std::path::{Path, PathBuf};
 use std::pin::Pin;
 use std::process::ExitCode;
+use std::sync::Arc;
+use std::sync::atomic::{AtomicU64, Ordering};
 use std::task::{Context as TaskContext, Poll};
 use std::time::Duration;
 
@@ -42,7 +44,7 @@ use tokio::time::Instant;
 use crate::cli::OutputFormat;
 use crate::client::Service;
 use crate::config::{AmbientOrigin, Settings};
-use crate::report::{csv_output_error, output_error};
+use crate::report::{csv_output_error, is_output_closed, output_error};
 use crate::units::{
     Ambient, PressureKind, PressureReading, Temperature, UnitSystem, fmt_pressure, fmt_temperature,
     fmt_temperature_difference,
@@ -798,8 +800,10 @@ pub async fn run(settings: &Settings, args: &WatchArgs) -> anyhow::Result<ExitCo
     let (row_sender, mut rows) = mpsc::channel::<Row>(4 * BATCH);
     spawn_reader(source, name, row_sender);
     let speed = args.speed;
+    // Counted as rows are read, so that a run whose output closes early still knows them.
+    let skipped = Arc::new(AtomicU64::new(0));
+    let skipped_by_sender = Arc::clone(&skipped);
     let sender = tokio::spawn(async move {
-        let mut skipped = 0u64;
         let mut pace: Option<(Instant, i64)> = None;
         let mut batch: Vec<pb::Reading> = Vec::new();
         let flush = |batch: &mut Vec<pb::Reading>| pb::WatchRequest {
@@ -824,8 +828,9 @@ pub async fn run(settings: &Settings, args: &WatchArgs) -> anyhow::Result<ExitCo
             let Some(row) = next else { break };
             match row {
                 Row::Skipped(message) => {
-                    skipped += 1;
-                    eprintln!("warning: {message}");
+                    skipped_by_sender.fetch_add(1, Ordering::Relaxed);
+                    // A closed standard error loses the warning, not the failed exit status.
+                    let _ = writeln!(std::io::stderr(), "warning: {message}");
                 }
                 Row::Reading(reading) => {
                     if let (Some(speed), Some(time)) = (speed, reading.timestamp_unix_ms) {
@@ -852,11 +857,55 @@ pub async fn run(settings: &Settings, args: &WatchArgs) -> anyhow::Result<ExitCo
         }
         // Dropping `requests` closes the stream's sending side: the service answers what it has
         // and ends the stream.
-        skipped
     });
 
     let mut printer = Printer::new(settings, args.readings);
-    let ended = loop {
+    let played = match print_stream(&mut responses, &mut printer, &service).await {
+        // The output closed while the stream ran: stop at once (the reader of the readings may
+        // never end).
+        Err(e) if is_output_closed(&e) => Err(e),
+        // A failed stream is reported as such, whatever became of the output.
+        Err(e) => return Err(e),
+        Ok(()) => {
+            let finished = printer.finish();
+            sender.await.context("the reading task failed")?;
+            finished.and_then(|()| {
+                let t = &printer.tally;
+                writeln!(
+                    std::io::stderr(),
+                    "{} readings played: {} raised, {} cleared, {} quality events, {} stale tags; \
+                     {} rows skipped. Alarms are advisory: no substitute for the plant's own \
+                     protection.",
+                    t.readings,
+                    t.raised,
+                    t.cleared,
+                    t.quality,
+                    t.stale,
+                    skipped.load(Ordering::Relaxed)
+                )
+                .map_err(output_error)
+            })
+        }
+    };
+    // Skipped rows fail the run even when its output closed (as `health` keeps "not serving").
+    let code = if skipped.load(Ordering::Relaxed) > 0 {
+        ExitCode::FAILURE
+    } else {
+        ExitCode::SUCCESS
+    };
+    match played {
+        Err(e) if !is_output_closed(&e) => Err(e),
+        _ => Ok(code),
+    }
+}
+
+/// Prints the stream's answers until the service ends it.
+async fn print_stream(
+    responses: &mut tonic::Streaming<pb::WatchResponse>,
+    printer: &mut Printer,
+    service: &Service,
+) -> anyhow::Result<()> {
+    loop {
         match responses.message().await {
             Ok(Some(response)) => {
                 // In reading-time order: a request can span minutes of readings, and the stream's
@@ -881,26 +930,10 @@ pub async fn run(settings: &Settings, args: &WatchArgs) -> anyhow::Result<ExitCo
                     }
                 }
             }
-            Ok(None) => break Ok(()),
-            Err(status) => break Err(service.error(status)),
+            Ok(None) => return Ok(()),
+            Err(status) => return Err(service.error(status).into()),
         }
-    };
-    // A failed stream outweighs an output closed meanwhile: it is reported first.
-    let finished = printer.finish();
-    let skipped = sender.await.context("the reading task failed")?;
-    ended?;
-    finished?;
-    let t = &printer.tally;
-    eprintln!(
-        "{} readings played: {} raised, {} cleared, {} quality events, {} stale tags; {} rows \
-         skipped. Alarms are advisory: no substitute for the plant's own protection.",
-        t.readings, t.raised, t.cleared, t.quality, t.stale, skipped
-    );
-    Ok(if skipped > 0 {
-        ExitCode::FAILURE
-    } else {
-        ExitCode::SUCCESS
-    })
+    }
 }
 
 /// Reads all of `input` line by line (for tests of the CSV layer without a server).

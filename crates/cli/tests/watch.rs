@@ -130,6 +130,34 @@ fn unreadable_rows_are_reported_and_the_exit_code_says_so() {
         "{}",
         result.stderr
     );
+
+    // With standard error closed by its reader the warning and the tally are lost, but the
+    // skipped row still fails the run (exit 1, not a crash); without a bad row the same closed
+    // output ends with success.
+    let good = dir.join("good_rows.csv");
+    std::fs::write(
+        &good,
+        "time,tag,fluid,pressure,temperature\n\
+         2026-01-15T06:00:00Z,NH3-P101,R-717,0.3barg,-33C\n",
+    )
+    .expect("write the readings");
+    for (file, code) in [(&path, 1), (&good, 0)] {
+        let mut command = util::binodal();
+        command
+            .arg("--server")
+            .arg(util::server_url())
+            .args(["watch", file.to_str().expect("utf-8 path")]);
+        let mut child = command.spawn().expect("start binodal");
+        drop(child.stderr.take());
+        let closed = util::finish(child);
+        assert_eq!(
+            closed.status.code(),
+            Some(code),
+            "{}: {}",
+            file.display(),
+            closed.stdout
+        );
+    }
 }
 
 /// Four readings of the ammonia pump suction NH3-P101 at 2 bar absolute, one a second from
