@@ -8,12 +8,6 @@
 //! Results in or near the solid region are flagged as estimated.
 
 use crate::cubic::Extreme;
-
-/// Lowest pressure at which a state is computed, Pa: far below the best laboratory vacuum
-/// (about 1e-10 Pa, common practice), and far enough above zero that the molar volume
-/// `Z R T / P` stays a finite number (at 1.8e-308 Pa it overflowed to infinity, found by the
-/// property tests).
-pub const MIN_STATE_PRESSURE_PA: f64 = 1e-12;
 use crate::curve::SolvePath;
 use crate::eos::{PhaseProperties, PureEos};
 use crate::error::{Error, positive};
@@ -22,6 +16,12 @@ use crate::model::Model;
 
 /// Relative pressure tolerance within which a state counts as saturated.
 pub const SATURATION_TOLERANCE: f64 = 1e-6;
+
+/// Lowest pressure at which a state is computed, Pa: far below the best laboratory vacuum
+/// (about 1e-10 Pa, common practice), and far enough above zero that the molar volume
+/// `Z R T / P` stays a finite number (at 1.8e-308 Pa it overflowed to infinity, found by the
+/// property tests).
+pub const MIN_STATE_PRESSURE_PA: f64 = 1e-12;
 
 /// The phase of a pure fluid at (T, P).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]

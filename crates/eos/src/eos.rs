@@ -369,7 +369,12 @@ impl PureEos {
     /// Real compressibility roots at (T, P) that lie above B (V > b), ascending.
     /// Always returns at least one root for T > 0, P > 0.
     pub fn compressibility_roots(&self, t: f64, p: f64) -> CubicRoots {
-        let ([c2, c1, c0], b) = self.cubic_coefficients(self.attraction(t).0, R * t, p);
+        self.compressibility_roots_with(self.attraction(t).0, R * t, p)
+    }
+
+    /// [`Self::compressibility_roots`] with `a(T)` and `R T` already computed.
+    pub(crate) fn compressibility_roots_with(&self, a_t: f64, rt: f64, p: f64) -> CubicRoots {
+        let ([c2, c1, c0], b) = self.cubic_coefficients(a_t, rt, p);
         let roots = solve_cubic(c2, c1, c0);
         if roots.count() == 3 && roots.smallest() <= b {
             // A spurious root at or below the co-volume: only the largest is physical.
@@ -418,7 +423,7 @@ impl PureEos {
     /// returns the log term `I` (algebraically the same at this root whether written in Z and
     /// B or in v/b; the two forms agree to rounding, about 1e-13 relative where the
     /// logarithm's argument is near 1).
-    fn residual_with(
+    pub(crate) fn residual_with(
         &self,
         t: f64,
         rt: f64,

@@ -8,7 +8,7 @@
 //! (`dF/d ln P = Z_L - Z_V < 0`) from positive to negative. Its zero is the vapor pressure.
 
 use crate::curve::SolvePath;
-use crate::eos::{PhaseProperties, PureEos};
+use crate::eos::{AtTemperature, PhaseProperties, PureEos};
 use crate::error::{Error, ErrorKind};
 use crate::fluid::GAS_CONSTANT as R;
 use crate::model::Model;
@@ -55,7 +55,7 @@ pub(crate) struct SatPoint {
 /// `F(ln P)` at one temperature, for argmin.
 struct FugacityGap<'a> {
     eos: &'a PureEos,
-    t: f64,
+    at: &'a AtTemperature,
 }
 
 impl CostFunction for FugacityGap<'_> {
@@ -63,7 +63,7 @@ impl CostFunction for FugacityGap<'_> {
     type Output = f64;
 
     fn cost(&self, ln_p: &f64) -> Result<f64, argmin::core::Error> {
-        Ok(self.eos.fugacity_gap(self.t, ln_p.exp()).0)
+        Ok(self.eos.fugacity_gap(self.at, ln_p.exp()).0)
     }
 }
 
@@ -102,8 +102,12 @@ where
 impl PureEos {
     /// `(F, Z_L, Z_V)` at (T, P). Where only one root exists, F is +1 for a vapor-like
     /// root (pressure below the three-root region) and -1 for a liquid-like one.
-    pub(crate) fn fugacity_gap(&self, t: f64, p: f64) -> (f64, f64, f64) {
-        let roots = self.compressibility_roots(t, p);
+    /// The temperature terms come precomputed: a solve evaluates them once, not per pressure.
+    pub(crate) fn fugacity_gap(&self, at: &AtTemperature, p: f64) -> (f64, f64, f64) {
+        let &AtTemperature {
+            t, rt, attraction, ..
+        } = at;
+        let roots = self.compressibility_roots_with(attraction.0, rt, p);
         if roots.count() == 1 {
             let z = roots.largest();
             let v_reduced = z * R * t / (p * self.co_volume());
@@ -114,7 +118,8 @@ impl PureEos {
             };
         }
         let (zl, zv) = (roots.smallest(), roots.largest());
-        let f = self.residual(t, p, zl).ln_phi - self.residual(t, p, zv).ln_phi;
+        let ln_phi = |z: f64| self.residual_with(t, rt, attraction, p, z).0.ln_phi;
+        let f = ln_phi(zl) - ln_phi(zv);
         (f, zl, zv)
     }
 
@@ -174,9 +179,10 @@ impl PureEos {
         let estimate = self.critical_pressure_pa()
             * 10f64.powf(7.0 / 3.0 * (1.0 + self.acentric_factor()) * (1.0 - 1.0 / tr));
         let mut lo = estimate.clamp(floor.max(f64::MIN_POSITIVE), hi);
+        let at = self.at_temperature(t);
         let mut tries = 0;
         loop {
-            let f = self.fugacity_gap(t, lo).0;
+            let f = self.fugacity_gap(&at, lo).0;
             if f > 0.0 {
                 break;
             }
@@ -194,7 +200,7 @@ impl PureEos {
             }
         }
         let ln_p = brent(
-            FugacityGap { eos: self, t },
+            FugacityGap { eos: self, at: &at },
             lo.ln(),
             hi.ln(),
             1e-7,
@@ -202,13 +208,13 @@ impl PureEos {
         )?;
         // Newton polish in ln P: dF/d ln P = Z_L - Z_V.
         let mut ln_p = ln_p;
-        let (mut f, mut zl, mut zv) = self.fugacity_gap(t, ln_p.exp());
+        let (mut f, mut zl, mut zv) = self.fugacity_gap(&at, ln_p.exp());
         for _ in 0..3 {
             if f == 0.0 || zl == zv {
                 break;
             }
             let next = ln_p - f / (zl - zv);
-            let (f2, zl2, zv2) = self.fugacity_gap(t, next.exp());
+            let (f2, zl2, zv2) = self.fugacity_gap(&at, next.exp());
             if zl2 == zv2 || f2.abs() >= f.abs() {
                 break;
             }

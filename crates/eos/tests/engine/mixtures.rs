@@ -121,6 +121,11 @@ fn outside_the_envelope_is_a_precise_error() {
     let err = mix.bubble_at_pressure(8.0e6).unwrap_err();
     assert_eq!(err.field(), Some("pressure_pa"), "{err}");
     assert!(err.to_string().contains("two-phase region"), "{err}");
+    // A state below the lowest computed pressure (as for a pure fluid, where the molar volume
+    // overflowed at 1.8e-308 Pa) is refused with the valid range.
+    let err = mix.state(300.0, 1.834_273_335_694_461e-308).unwrap_err();
+    assert_eq!(err.field(), Some("pressure_pa"), "{err}");
+    assert!(err.to_string().contains("1e-12"), "{err}");
     // Close below the mixture's critical region either a consistent answer or an error.
     for t in [385.0, 390.0, 395.0, 400.0] {
         match (mix.bubble_at_temperature(t), mix.dew_at_temperature(t)) {
