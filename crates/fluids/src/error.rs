@@ -88,6 +88,14 @@ pub enum LookupError {
         /// punctuation), closest first.
         suggestions: Vec<String>,
     },
+    /// The name is longer than any name the catalogue could hold (not echoed back).
+    #[error("fluid name of {length} bytes is too long: a name has at most {max} bytes")]
+    TooLong {
+        /// Length of the name given, bytes.
+        length: usize,
+        /// The most a name may have, bytes ([`crate::MAX_NAME_BYTES`]).
+        max: usize,
+    },
     /// The name has no letters or digits, so it cannot match anything.
     #[error("fluid name `{name}` has no letters or digits")]
     Empty {

@@ -107,6 +107,10 @@ const BUILTIN_FILES: [(&str, &str); 5] = [
     ),
 ];
 
+/// Longest fluid name a look-up accepts, bytes: far above every catalogue name (the longest
+/// chemical names have about 60), low enough that a name's suggestions stay cheap.
+pub const MAX_NAME_BYTES: usize = 256;
+
 /// The compiled-in text of `data/fits.toml`.
 pub const FITS_TOML: &str = include_str!("../data/fits.toml");
 
@@ -179,6 +183,14 @@ impl Catalogue {
     /// The fluid known by `name`: its id, display name, ASHRAE number, chemical name, CAS
     /// number or an alias, compared ignoring case and everything but letters and digits.
     pub fn get(&self, name: &str) -> Result<&FluidRecord, LookupError> {
+        // Checked first: the suggestions compare the name with every known one, at a cost
+        // that grows with its length.
+        if name.len() > MAX_NAME_BYTES {
+            return Err(LookupError::TooLong {
+                length: name.len(),
+                max: MAX_NAME_BYTES,
+            });
+        }
         if normalize(name).is_empty() {
             return Err(LookupError::Empty {
                 name: name.to_string(),

@@ -81,6 +81,9 @@ impl From<ServiceError> for Status {
                     ErrorDetails::with_bad_request_violation(field, message),
                 )
             }
+            ServiceError::UnknownFluid(e @ LookupError::TooLong { .. }) => {
+                Status::invalid_argument(e.to_string())
+            }
             ServiceError::UnknownFluid(e) => Status::not_found(e.to_string()),
             ServiceError::Engine(e) => {
                 let code = engine_code(&e);

@@ -26,11 +26,17 @@ pub fn row_values(from: f64, to: f64, step: f64) -> anyhow::Result<Vec<f64>> {
     // A relative allowance of 1e-9 steps keeps `--to` when it is a whole number of steps away
     // despite rounding in the unit conversions.
     let intervals = (span / step + 1e-9).floor();
-    if intervals + 1.0 > MAX_ROWS as f64 {
+    let rows = intervals + 1.0;
+    if rows > MAX_ROWS as f64 {
+        // A tiny step gives a row count beyond any integer type: show it in powers of ten.
+        let rows = if rows < 1e12 {
+            format!("{rows:.0}")
+        } else {
+            format!("{rows:.1e}")
+        };
         bail!(
-            "--from, --to and --step give {} rows; a table has at most {MAX_ROWS} rows: use a \
-             larger --step or a narrower range",
-            intervals as u64 + 1
+            "--from, --to and --step give {rows} rows; a table has at most {MAX_ROWS} rows: use a \
+             larger --step or a narrower range"
         );
     }
     let direction = if to >= from { 1.0 } else { -1.0 };
@@ -157,5 +163,10 @@ mod tests {
             .to_string();
         assert!(message.contains("10001 rows"), "{message}");
         assert!(message.contains("at most 2000"), "{message}");
+        // A step so small that the row count passes every integer type: an error, not a panic.
+        let message = row_values(233.15, 313.15, 1e-300)
+            .expect_err("too many")
+            .to_string();
+        assert!(message.contains("8.0e301 rows"), "{message}");
     }
 }

@@ -1,6 +1,6 @@
 //! Every required fluid is in the catalogue and resolves by each of its name forms.
 
-use binodal_fluids::{Catalogue, LookupError};
+use binodal_fluids::{Catalogue, LookupError, MAX_NAME_BYTES};
 
 /// The fluids the catalogue must hold, each with name forms a user may type: the ASHRAE 34
 /// refrigerant number with and without the dash, the trade family prefix (HFC-, HCFC-,
@@ -221,4 +221,28 @@ fn unknown_names_come_with_three_suggestions() {
             name: " -- ".to_string()
         }
     );
+    // A name longer than any the catalogue could hold is refused before any comparison, and
+    // not echoed back.
+    let long = "x".repeat(3_000_000);
+    assert_eq!(
+        catalogue.get(&long).unwrap_err(),
+        LookupError::TooLong {
+            length: 3_000_000,
+            max: MAX_NAME_BYTES
+        }
+    );
+    // Every spelling the catalogue gives stays far below the limit.
+    let longest = catalogue
+        .fluids()
+        .iter()
+        .flat_map(|f| {
+            [Some(&f.id), Some(&f.name), f.chemical_name.as_ref()]
+                .into_iter()
+                .flatten()
+                .chain(&f.aliases)
+        })
+        .map(String::len)
+        .max()
+        .expect("fluids");
+    assert!(longest < MAX_NAME_BYTES / 2, "longest name {longest} bytes");
 }

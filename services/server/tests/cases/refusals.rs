@@ -171,6 +171,24 @@ async fn bad_requests_get_precise_statuses() {
             fragments: words(&["propanne", "propane"]),
             violation: None,
         },
+        // A name far longer than any catalogue name is refused at once, without comparing it
+        // with every known name, and is not echoed back.
+        Refusal {
+            what: "3 MB fluid name (GetState)",
+            call: state(&"x".repeat(3_000_000), 280.0, 1.0e5),
+            code: Code::InvalidArgument,
+            fragments: words(&["fluid name of 3000000 bytes", "at most 256 bytes"]),
+            violation: None,
+        },
+        Refusal {
+            what: "3 MB fluid name (DescribeFluid)",
+            call: Call::Describe(pb::DescribeFluidRequest {
+                fluid: "R".repeat(3_000_000),
+            }),
+            code: Code::InvalidArgument,
+            fragments: words(&["at most 256 bytes"]),
+            violation: None,
+        },
         // Carbon dioxide's triple point lies above one atmosphere (0.518 MPa at 216.6 K, the
         // catalogue's inorganic.toml, `staveley-1981`): it has no liquid at the normal boiling
         // pressure, so that reference state cannot apply.
