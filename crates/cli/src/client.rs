@@ -104,6 +104,9 @@ impl Service {
             if !one.starts_with("http://") && !one.starts_with("https://") {
                 return Err(bad("each address must start with http:// or https://"));
             }
+            if let Some(reason) = port_problem(one) {
+                return Err(bad(&reason));
+            }
         }
         let channel = crate::transport::channel(&urls, security)
             .and_then(|channel| Transport::new(channel, security))
@@ -192,4 +195,53 @@ fn broken_connection(status: &Status) -> bool {
         cause = error.source();
     }
     transport
+}
+
+/// What is wrong with the port of an `http(s)://` address, if anything. The transport would take
+/// an unreadable port (`:99999`, `:abc`) for none and call port 80.
+fn port_problem(url: &str) -> Option<String> {
+    let uri: tonic::transport::Uri = match url.parse() {
+        Ok(uri) => uri,
+        Err(e) => return Some(e.to_string()),
+    };
+    let Some(authority) = uri.authority() else {
+        return Some("it names no host".to_string());
+    };
+    let text = authority.as_str();
+    // After an IPv6 literal's closing bracket, or anywhere in a name or IPv4 address.
+    let host_end = text.rfind(']').map_or(0, |i| i + 1);
+    let colon = text[host_end..].rfind(':')?;
+    let port = &text[host_end + colon + 1..];
+    (!matches!(port.parse::<u16>(), Ok(1..)))
+        .then(|| format!("port `{port}` is not a port number from 1 to 65535"))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn server_addresses_need_a_real_port() {
+        for good in [
+            "http://127.0.0.1:50051",
+            "https://binodal.example:443",
+            "http://[::1]:50051",
+            "http://localhost",
+        ] {
+            assert_eq!(port_problem(good), None, "{good}");
+        }
+        for (bad, port) in [
+            ("http://127.0.0.1:99999", "99999"),
+            ("http://127.0.0.1:65536", "65536"),
+            ("http://127.0.0.1:abc", "abc"),
+            ("http://127.0.0.1:0", "0"),
+            ("http://[::1]:70000", "70000"),
+        ] {
+            let reason = port_problem(bad).expect(bad);
+            assert!(
+                reason.contains(&format!("port `{port}`")),
+                "{bad}: {reason}"
+            );
+        }
+    }
 }

@@ -742,6 +742,11 @@ fn an_unreachable_server_is_named() {
     assert!(stderr.contains("cannot reach"), "{stderr}");
     let run = run_bare(&["--server", "127.0.0.1:50051", "health"]);
     assert!(run.failed().contains("http://HOST:PORT"), "{}", run.stderr);
+    // A port out of range is refused, not taken for none (which would call port 80).
+    let run = run_bare(&["--server", "http://127.0.0.1:99999", "health"]);
+    let stderr = run.failed();
+    assert!(stderr.contains("port `99999`"), "{stderr}");
+    assert!(!stderr.contains("cannot reach"), "{stderr}");
 }
 
 #[test]
