@@ -285,52 +285,53 @@ impl Basis {
     }
 }
 
-/// A model's recorded accuracy as JSON (shared by `fluid` and the phase commands).
+/// A model's recorded accuracy as JSON (shared by `fluid` and the phase commands); figures
+/// that were not checked are null.
 pub fn accuracy_json(accuracy: &ModelAccuracy) -> Json {
+    let figure = |value: Option<f64>| value.map_or(Json::Null, number_json);
     json!({
-        "saturation_pressure_mean_percent": number_json(accuracy.saturation_pressure_mean_abs_deviation_percent),
-        "saturation_pressure_max_percent": number_json(accuracy.saturation_pressure_max_abs_deviation_percent),
-        "enthalpy_of_vaporization_mean_percent": number_json(accuracy.enthalpy_of_vaporization_mean_abs_deviation_percent),
-        "enthalpy_of_vaporization_max_percent": number_json(accuracy.enthalpy_of_vaporization_max_abs_deviation_percent),
-        "checked_from_k": number_json(accuracy.checked_min_temperature_k),
-        "checked_to_k": number_json(accuracy.checked_max_temperature_k),
+        "saturation_pressure_mean_percent": figure(accuracy.saturation_pressure_mean_abs_deviation_percent),
+        "saturation_pressure_max_percent": figure(accuracy.saturation_pressure_max_abs_deviation_percent),
+        "enthalpy_of_vaporization_mean_percent": figure(accuracy.enthalpy_of_vaporization_mean_abs_deviation_percent),
+        "enthalpy_of_vaporization_max_percent": figure(accuracy.enthalpy_of_vaporization_max_abs_deviation_percent),
+        "checked_from_k": figure(accuracy.checked_min_temperature_k),
+        "checked_to_k": figure(accuracy.checked_max_temperature_k),
         "checked_points": accuracy.checked_point_count,
+        "normal_boiling_point_deviation_k": figure(accuracy.normal_boiling_point_deviation_k),
         "reference": accuracy.reference,
     })
 }
 
-/// A percentage for people, or "not checked" when the server sent none (NaN).
-fn percent(value: f64) -> String {
-    if value.is_finite() {
-        format!("{value:.2} %")
-    } else {
-        "not checked".to_string()
-    }
-}
-
 /// A model's recorded accuracy in one sentence.
 pub fn accuracy_sentence(accuracy: &ModelAccuracy) -> String {
-    let vaporization = if accuracy
-        .enthalpy_of_vaporization_mean_abs_deviation_percent
-        .is_finite()
-    {
-        format!(
-            "enthalpy of vaporization mean {}, max {}",
-            percent(accuracy.enthalpy_of_vaporization_mean_abs_deviation_percent),
-            percent(accuracy.enthalpy_of_vaporization_max_abs_deviation_percent)
-        )
-    } else {
-        "enthalpy of vaporization not checked".to_string()
-    };
-    format!(
-        "saturation pressure mean {}, max {}; {vaporization} ({:.2} K to {:.2} K, {} points; \
-         against {})",
-        percent(accuracy.saturation_pressure_mean_abs_deviation_percent),
-        percent(accuracy.saturation_pressure_max_abs_deviation_percent),
+    let boiling = accuracy
+        .normal_boiling_point_deviation_k
+        .map(|d| format!("; normal boiling point {d:+.2} K"))
+        .unwrap_or_default();
+    let (Some(mean), Some(max), Some(from), Some(to)) = (
+        accuracy.saturation_pressure_mean_abs_deviation_percent,
+        accuracy.saturation_pressure_max_abs_deviation_percent,
         accuracy.checked_min_temperature_k,
         accuracy.checked_max_temperature_k,
-        accuracy.checked_point_count,
-        accuracy.reference
+    ) else {
+        return format!(
+            "saturation pressure and enthalpy of vaporization not checked{boiling} (against {})",
+            accuracy.reference
+        );
+    };
+    let vaporization = match (
+        accuracy.enthalpy_of_vaporization_mean_abs_deviation_percent,
+        accuracy.enthalpy_of_vaporization_max_abs_deviation_percent,
+    ) {
+        (Some(h_mean), Some(h_max)) => {
+            format!("enthalpy of vaporization mean {h_mean:.2} %, max {h_max:.2} %")
+        }
+        _ => "enthalpy of vaporization not checked".to_string(),
+    };
+    format!(
+        "saturation pressure mean {mean:.2} %, max {max:.2} %; {vaporization}{boiling} ({from:.2} K \
+         to {to:.2} K, {} points; against {})",
+        accuracy.checked_point_count, accuracy.reference
     )
 }
 

@@ -1176,6 +1176,18 @@ fn one_fluid_shows_constants_class_caution_and_recorded_accuracy() {
         "NIST Chemistry WebBook propane table (propane_saturation.csv, 280 K)",
     );
 
+    // A fluid checked only at its normal boiling point says so, with no NaN figures.
+    let text = run(&["fluid", "R-1234yf"]);
+    let text = text.ok();
+    assert!(!text.contains("NaN"), "{text}");
+    assert!(
+        text.contains(
+            "Peng-Robinson (1978 alpha): saturation pressure and enthalpy of vaporization not \
+             checked; normal boiling point"
+        ),
+        "{text}"
+    );
+
     // The readable form shows the same: constants in metric units, the class, each model's
     // recorded deviation and the caution line.
     let text = run(&["fluid", "R-290"]);

@@ -263,10 +263,7 @@ pub fn blend_description(
                 .components
                 .iter()
                 .filter_map(|(f, _)| accuracy_to_proto(f.accuracy_for(model), model))
-                .max_by(|a, b| {
-                    a.saturation_pressure_max_abs_deviation_percent
-                        .total_cmp(&b.saturation_pressure_max_abs_deviation_percent)
-                });
+                .max_by(|a, b| unchecked_worst(a).total_cmp(&unchecked_worst(b)));
             pb::ModelSupport {
                 equation_of_state: model_to_proto(model) as i32,
                 alpha_function: pb::AlphaFunction::AcentricCorrelation as i32,
@@ -325,6 +322,14 @@ fn alpha_to_proto(chosen: &binodal_eos::PureEos) -> pb::AlphaFunction {
     }
 }
 
+/// The largest saturation-pressure deviation of a record, for finding a mixture's worst
+/// component: a component never checked counts as the worst, since its deviation is unknown.
+fn unchecked_worst(accuracy: &pb::ModelAccuracy) -> f64 {
+    accuracy
+        .saturation_pressure_max_abs_deviation_percent
+        .unwrap_or(f64::INFINITY)
+}
+
 /// The recorded accuracy of `model` for a fluid.
 fn accuracy_to_proto(record: Option<&AccuracyRecord>, model: Model) -> Option<pb::ModelAccuracy> {
     let record = record?;
@@ -332,16 +337,17 @@ fn accuracy_to_proto(record: Option<&AccuracyRecord>, model: Model) -> Option<pb
     let hvap = record.enthalpy_of_vaporization.as_ref();
     Some(pb::ModelAccuracy {
         equation_of_state: model_to_proto(model) as i32,
-        saturation_pressure_mean_abs_deviation_percent: psat
-            .map_or(f64::NAN, |d| d.mean_abs_percent),
-        saturation_pressure_max_abs_deviation_percent: psat.map_or(f64::NAN, |d| d.max_abs_percent),
-        enthalpy_of_vaporization_mean_abs_deviation_percent: hvap
-            .map_or(f64::NAN, |d| d.mean_abs_percent),
-        enthalpy_of_vaporization_max_abs_deviation_percent: hvap
-            .map_or(f64::NAN, |d| d.max_abs_percent),
-        checked_min_temperature_k: psat.map_or(f64::NAN, |d| d.t_min_k),
-        checked_max_temperature_k: psat.map_or(f64::NAN, |d| d.t_max_k),
+        saturation_pressure_mean_abs_deviation_percent: psat.map(|d| d.mean_abs_percent),
+        saturation_pressure_max_abs_deviation_percent: psat.map(|d| d.max_abs_percent),
+        enthalpy_of_vaporization_mean_abs_deviation_percent: hvap.map(|d| d.mean_abs_percent),
+        enthalpy_of_vaporization_max_abs_deviation_percent: hvap.map(|d| d.max_abs_percent),
+        checked_min_temperature_k: psat.map(|d| d.t_min_k),
+        checked_max_temperature_k: psat.map(|d| d.t_max_k),
         checked_point_count: psat.map_or(0, |d| d.points as u32),
+        normal_boiling_point_deviation_k: record
+            .normal_boiling_point
+            .as_ref()
+            .and_then(|c| c.deviation_k()),
         reference: format!("{} (alpha: {})", record.checked_against, record.alpha),
     })
 }
@@ -638,10 +644,7 @@ pub fn mixture_basis(choice: &MixtureChoice) -> pb::ResultBasis {
         .components
         .iter()
         .filter_map(|(f, _)| accuracy_to_proto(f.accuracy_for(model), model).map(|a| (f, a)))
-        .max_by(|(_, a), (_, b)| {
-            a.saturation_pressure_max_abs_deviation_percent
-                .total_cmp(&b.saturation_pressure_max_abs_deviation_percent)
-        })
+        .max_by(|(_, a), (_, b)| unchecked_worst(a).total_cmp(&unchecked_worst(b)))
         .map(|(f, mut a)| {
             a.reference = format!(
                 "worst recorded pure-component deviation ({}); the mixture's phase equilibrium \

@@ -113,7 +113,9 @@ async fn entropy_of_vaporization_follows_published_enthalpies_within_the_recorde
 
                 // Against the published value, within the recorded deviation.
                 let published = hvap_published / t;
-                let allowed = accuracy.enthalpy_of_vaporization_max_abs_deviation_percent
+                let allowed = accuracy
+                    .enthalpy_of_vaporization_max_abs_deviation_percent
+                    .expect("a checked enthalpy of vaporization")
                     + RECORD_ROUNDING_PERCENT;
                 let deviation = deviation_percent(ds, published);
                 assert!(
