@@ -226,6 +226,31 @@ fn superheat_against_the_tabulated_saturation_temperature() {
 }
 
 #[test]
+fn margins_refuse_absolute_zero_and_flag_a_line_below_the_triple_point() {
+    let run_margin = |margin: &str, temperature: &str| {
+        run(&[
+            margin,
+            "R-134a",
+            "--pressure",
+            "0.5bar",
+            "--temperature",
+            temperature,
+            "--output",
+            "json",
+        ])
+    };
+    let refused = run_margin("superheat", "0K");
+    let stderr = refused.failed();
+    assert!(stderr.contains("--temperature"), "{stderr}");
+    assert!(stderr.contains("absolute zero"), "{stderr}");
+    // -150 °C = 123.15 K (ISO 80000-5), below R-134a's triple point, 169.86 K (NIST Chemistry
+    // WebBook, as cited in the catalogue): answered, with a note that says so.
+    let answer = run_margin("subcooling", "-150C").json();
+    let notes = answer["notes"].to_string();
+    assert!(notes.contains("below the triple point"), "{notes}");
+}
+
+#[test]
 fn subcooling_from_a_gauge_reading_against_the_tabulated_saturation_temperature() {
     // CH-2 liquid line: 1400.875 kPa(g) with a stated ambient of 101.325 kPa is 1.5022 MPa(a);
     // R-134a table row (328.44 K, 1.5022 MPa). Line at 50 °C = 323.15 K: subcooling 5.29 K.

@@ -1164,17 +1164,12 @@ impl Mixture {
     pub fn state(&self, temperature_k: f64, pressure_pa: f64) -> Result<MixtureState, Error> {
         let t = positive("temperature_k", temperature_k)?;
         let p = positive("pressure_pa", pressure_pa)?;
-        let t_min = self.minimum_temperature_k();
-        if t < t_min {
-            return Err(Error::out_of_range(
-                "temperature_k",
-                t,
-                t_min,
-                f64::INFINITY,
-                "K",
-            ));
-        }
         let (tc, pc) = self.pseudo_critical();
+        // The same range as a pure fluid's state, about the pseudo-critical point.
+        let (t_min, t_max) = (self.minimum_temperature_k(), (5.0 * tc).max(1500.0));
+        if !(t_min..=t_max).contains(&t) {
+            return Err(Error::out_of_range("temperature_k", t, t_min, t_max, "K"));
+        }
         if !(crate::classify::MIN_STATE_PRESSURE_PA..=100.0 * pc).contains(&p) {
             return Err(Error::out_of_range(
                 "pressure_pa",

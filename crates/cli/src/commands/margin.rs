@@ -11,7 +11,9 @@ use crate::commands::{
 };
 use crate::config::Settings;
 use crate::report::{Basis, Body, Document, Field, caution};
-use crate::units::{PressureReading, Quantity, Temperature, fmt_temperature_difference};
+use crate::units::{
+    PressureReading, Quantity, Temperature, fmt_temperature, fmt_temperature_difference,
+};
 
 /// Which margin is asked for.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -32,6 +34,13 @@ pub async fn run(
 ) -> anyhow::Result<Document> {
     use Quantity as Q;
     let pressure = pressure.to_absolute(settings.ambient.ambient)?;
+    if !(temperature.kelvin() > 0.0) {
+        anyhow::bail!(
+            "--temperature: {} is not above absolute zero; give the line temperature read at the \
+             sensor",
+            fmt_temperature(temperature.kelvin(), settings.units)
+        );
+    }
     let service = connect(settings).await?;
     let fluid = service.describe(name).await?;
     let units = settings.units;
@@ -104,6 +113,16 @@ pub async fn run(
 
     let mut document = Document::new(Some(fluid.fluid_id.clone()), Body::Record(fields));
     document.basis = response.basis.as_ref().map(Basis::from_proto);
+    if let Some(triple) = fluid.triple_point_temperature_k
+        && temperature.kelvin() < triple
+    {
+        document.notes.push(format!(
+            "the line temperature lies below the triple point of {} ({}): the fluid would be \
+             solid there, and the margin is not meaningful; check the reading",
+            fluid.display_name,
+            fmt_temperature(triple, units)
+        ));
+    }
     if value_k < 0.0 {
         let by = fmt_temperature_difference(-value_k, units);
         document.notes.push(match margin {

@@ -126,6 +126,14 @@ fn outside_the_envelope_is_a_precise_error() {
     let err = mix.state(300.0, 1.834_273_335_694_461e-308).unwrap_err();
     assert_eq!(err.field(), Some("pressure_pa"), "{err}");
     assert!(err.to_string().contains("1e-12"), "{err}");
+    // Temperatures are bounded above as for a pure fluid (5 times the pseudo-critical
+    // temperature, at least 1500 K): a finite range, not "to inf".
+    for t in [1.0e300, 1.0e5, 0.1] {
+        let err = mix.state(t, 1.0e5).unwrap_err();
+        assert_eq!(err.field(), Some("temperature_k"), "{err}");
+        assert!(!err.to_string().contains("inf"), "{err}");
+    }
+    assert!(mix.state(1400.0, 1.0e5).is_ok());
     // Close below the mixture's critical region either a consistent answer or an error.
     for t in [385.0, 390.0, 395.0, 400.0] {
         match (mix.bubble_at_temperature(t), mix.dew_at_temperature(t)) {
