@@ -34,7 +34,7 @@ pub async fn run(
 ) -> anyhow::Result<Document> {
     use Quantity as Q;
     let pressure = pressure.to_absolute(settings.ambient.ambient)?;
-    if !(temperature.kelvin() > 0.0) {
+    if temperature.kelvin() <= 0.0 {
         anyhow::bail!(
             "--temperature: {} is not above absolute zero; give the line temperature read at the \
              sensor",
