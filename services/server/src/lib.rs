@@ -85,6 +85,7 @@ pub async fn run(
         Arc::clone(&engines),
         &settings.alarms,
         limits.max_batch_length,
+        limits.max_message_size_bytes,
     )?;
     health
         .set_serving::<AlarmServiceServer<alarms::AlarmApi>>()

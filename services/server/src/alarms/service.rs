@@ -8,6 +8,8 @@
 
 use std::sync::Arc;
 
+use prost::Message as _;
+
 use anyhow::Context as _;
 use binodal_proto::v1 as pb;
 use binodal_proto::v1::alarm_service_server::AlarmService;
@@ -33,6 +35,8 @@ pub struct AlarmApi {
     engines: Arc<Engines>,
     settings: Arc<AlarmSettings>,
     max_batch_length: usize,
+    /// `limits.max_message_size_bytes`: the largest answer the server sends.
+    max_message_size: usize,
     stop: watch::Receiver<bool>,
     /// One permit per open stream (`alarms.max_streams`).
     streams: Arc<tokio::sync::Semaphore>,
@@ -57,6 +61,7 @@ impl AlarmApi {
         engines: Arc<Engines>,
         settings: &AlarmSettings,
         max_batch_length: usize,
+        max_message_size: usize,
     ) -> anyhow::Result<(AlarmApi, AlarmStop)> {
         for (index, entry) in settings.tags.iter().enumerate() {
             if let Some(fluid) = &entry.fluid
@@ -76,11 +81,35 @@ impl AlarmApi {
                 engines,
                 settings: Arc::new(settings.clone()),
                 max_batch_length,
+                max_message_size,
                 stop,
                 streams: Arc::new(tokio::sync::Semaphore::new(settings.max_streams)),
             },
             AlarmStop(sender),
         ))
+    }
+
+    /// Refuses an answer the message limit would refuse on the wire (there as a bare "message
+    /// length too large"), saying how many readings would fit. `without_outcomes` gives the
+    /// answer's size without its per-reading outcomes, asked only when the answer is too large.
+    fn check_answer_size(
+        &self,
+        size: usize,
+        without_outcomes: impl FnOnce() -> usize,
+        readings: usize,
+    ) -> Result<(), ServiceError> {
+        let limit = self.max_message_size;
+        if size <= limit {
+            return Ok(());
+        }
+        let fixed = without_outcomes().min(size);
+        let per_reading = (size - fixed) as f64 / readings.max(1) as f64;
+        let fitting = (limit.saturating_sub(fixed) as f64 / per_reading.max(1.0)).floor();
+        Err(ServiceError::LimitReached(format!(
+            "the answer to these {readings} readings is {size} bytes, over the server's message \
+             limit of {limit} bytes (setting limits.max_message_size_bytes); send at most about \
+             {fitting} readings per request, or follow fewer tags per stream"
+        )))
     }
 
     fn evaluator(&self, setup: super::session::Setup) -> Evaluator {
@@ -132,7 +161,8 @@ impl AlarmApi {
             };
             let readings: Vec<ReadingIn> =
                 request.readings.into_iter().map(wire::reading).collect();
-            readings_seen += readings.len() as u64;
+            let readings_in_request = readings.len();
+            readings_seen += readings_in_request as u64;
             let response = if readings.len() >= BLOCKING_READINGS {
                 let work = tokio::task::spawn_blocking(move || {
                     let response = wire::watch_response(current.handle(readings, repeated_opening));
@@ -158,6 +188,18 @@ impl AlarmApi {
             };
             let tags = current.tag_count();
             session = Some(current);
+            // An answer over the message limit cannot be sent: the stream ends with the reason.
+            let size = response.encoded_len();
+            let without_outcomes = || {
+                let mut rest = response.clone();
+                rest.outcomes.clear();
+                rest.encoded_len()
+            };
+            if let Err(error) = self.check_answer_size(size, without_outcomes, readings_in_request)
+            {
+                let _ = responses.send(Err(error.into())).await;
+                break;
+            }
             if responses.send(Ok(response)).await.is_err() {
                 tracing::debug!(tags, "alarm stream: the client stopped reading");
                 break;
@@ -235,6 +277,12 @@ impl AlarmService for AlarmApi {
         } else {
             compute()
         };
+        let without_outcomes = || {
+            let mut rest = response.clone();
+            rest.outcomes.clear();
+            rest.encoded_len()
+        };
+        self.check_answer_size(response.encoded_len(), without_outcomes, count)?;
         Ok(Response::new(response))
     }
 }

@@ -1528,3 +1528,53 @@ async fn an_evaluation_batch_over_the_limit_is_refused_naming_the_limit() {
     assert_eq!(answer.outcomes.len(), 10);
     server.stop().await;
 }
+
+/// An answer larger than the server's message limit is refused with the setting's name and how
+/// many readings would fit, instead of the transport's bare "message length too large"; that
+/// many readings are then answered.
+#[tokio::test]
+async fn an_answer_over_the_message_limit_says_how_many_readings_fit() {
+    let mut settings = Settings::default();
+    settings.limits.max_message_size_bytes = 64 * 1024;
+    let server = TestServer::start_with(settings).await;
+    let mut client = AlarmServiceClient::new(server.channel().await);
+    let request = |count: i64| pb::EvaluateReadingsRequest {
+        setup: Some(opening(
+            "NH3-P101",
+            vec![rule(
+                pb::AlarmRuleKind::MinimumSubcooling,
+                3.0,
+                1.0,
+                15.0,
+                15.0,
+            )],
+        )),
+        readings: (0..count)
+            .map(|i| reading("NH3-P101", "R-717", i, 240.0, 2.0e5))
+            .collect(),
+    };
+    let status = client
+        .evaluate_readings(request(600))
+        .await
+        .expect_err("an answer over 64 KiB to a request under it");
+    assert_eq!(status.code(), Code::ResourceExhausted, "{status:?}");
+    let message = status.message();
+    assert!(
+        message.contains("limits.max_message_size_bytes"),
+        "{message}"
+    );
+    let fitting: i64 = message
+        .split("at most about ")
+        .nth(1)
+        .and_then(|rest| rest.split(' ').next())
+        .and_then(|n| n.parse().ok())
+        .unwrap_or_else(|| panic!("no count in: {message}"));
+    assert!((1..600).contains(&fitting), "{message}");
+    let answer = client
+        .evaluate_readings(request(fitting))
+        .await
+        .expect("the suggested count fits")
+        .into_inner();
+    assert_eq!(answer.outcomes.len(), fitting as usize);
+    server.stop().await;
+}
