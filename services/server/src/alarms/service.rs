@@ -144,7 +144,18 @@ impl AlarmApi {
                 Ok(Some(request)) => request,
                 Ok(None) => break,
                 Err(status) => {
-                    tracing::debug!(%status, "alarm stream: the client's side failed");
+                    tracing::debug!(%status, "alarm stream: a request could not be read");
+                    // A request the server could not read (over the message limit, malformed)
+                    // ends the stream with the reason; a client that has gone receives nothing.
+                    let _ = responses
+                        .send(Err(Status::new(
+                            status.code(),
+                            format!(
+                                "a request on this stream could not be read: {}",
+                                status.message()
+                            ),
+                        )))
+                        .await;
                     break;
                 }
             };

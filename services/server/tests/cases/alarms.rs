@@ -1578,3 +1578,34 @@ async fn an_answer_over_the_message_limit_says_how_many_readings_fit() {
     assert_eq!(answer.outcomes.len(), fitting as usize);
     server.stop().await;
 }
+
+/// A stream request the server cannot read (here over a 64 KiB message limit, with a 100 000-byte
+/// tag) ends the stream with the reason, not with a silent end that a client would take for
+/// "nothing to report".
+#[tokio::test]
+async fn an_unreadable_stream_request_ends_the_stream_with_the_reason() {
+    let mut settings = Settings::default();
+    settings.limits.max_message_size_bytes = 64 * 1024;
+    let server = TestServer::start_with(settings).await;
+    let mut watch = Watch::open(&server, None).await;
+    let huge = reading(&"T".repeat(100_000), "R-717", 0, 240.0, 2.0e5);
+    watch
+        .requests
+        .send(pb::WatchRequest {
+            opening: None,
+            readings: vec![huge],
+        })
+        .await
+        .expect("the stream accepts requests");
+    let status = watch
+        .next()
+        .await
+        .expect_err("the stream ends with a status");
+    assert_eq!(status.code(), Code::OutOfRange, "{status:?}");
+    assert!(
+        status.message().contains("could not be read"),
+        "{}",
+        status.message()
+    );
+    server.stop().await;
+}
