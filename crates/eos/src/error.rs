@@ -163,15 +163,26 @@ impl Error {
     }
 }
 
-/// A number in a message: as written for ordinary magnitudes, in scientific notation below
-/// 1e-4 and from 1e15 up (so that 1.8e-308 does not print as 300 zeros).
+/// A number in a message: to 12 significant digits for ordinary magnitudes (enough for every
+/// digit a person typed, without the last bits of rounding, so 374.20962578999996 prints as
+/// 374.20962579), in scientific notation below 1e-4 and from 1e15 up (so that 1.8e-308 does not
+/// print as 300 zeros).
 struct Number(f64);
 
 impl fmt::Display for Number {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         let magnitude = self.0.abs();
-        if self.0 == 0.0 || !self.0.is_finite() || (1e-4..1e15).contains(&magnitude) {
+        if self.0 == 0.0 || !self.0.is_finite() {
             write!(f, "{}", self.0)
+        } else if (1e-4..1e15).contains(&magnitude) {
+            let decimals = (11 - magnitude.log10().floor() as i32).max(0) as usize;
+            let text = format!("{:.*}", decimals, self.0);
+            let text = if text.contains('.') {
+                text.trim_end_matches('0').trim_end_matches('.')
+            } else {
+                &text
+            };
+            f.write_str(text)
         } else {
             write!(f, "{:e}", self.0)
         }
@@ -260,4 +271,26 @@ pub(crate) fn positive(field: &'static str, value: f64) -> Result<f64, Error> {
         return Err(Error::new(ErrorKind::NonPositive { field, value }));
     }
     Ok(value)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::Number;
+
+    #[test]
+    fn numbers_in_messages_drop_rounding_noise_and_keep_typed_digits() {
+        for (value, shown) in [
+            (374.209_625_789_999_96, "374.20962579"),
+            (113.75, "113.75"),
+            (0.1 + 0.2, "0.3"),
+            (101_325.0, "101325"),
+            (-40.0, "-40"),
+            (1.834_273_335_694_461e-308, "1.834273335694461e-308"),
+            (1e300, "1e300"),
+            (0.0, "0"),
+            (12_345.678_901_234, "12345.6789012"),
+        ] {
+            assert_eq!(Number(value).to_string(), shown, "{value:?}");
+        }
+    }
 }
