@@ -319,10 +319,15 @@ impl Engines {
         let mut resolved = Vec::with_capacity(parts.len());
         for (i, (name, fraction)) in parts.iter().enumerate() {
             let record = self.catalogue.get(name).map_err(|e| {
-                ServiceError::field(
-                    format!("fluid.mixture.components[{i}].fluid"),
-                    e.to_string(),
-                )
+                let message = match self.blend_index(name) {
+                    Some(blend) => format!(
+                        "{} is a blend; a mixture's components are pure fluids: list the blend's \
+                         own components, or ask for the blend by name as the fluid",
+                        self.catalogue.blends()[blend].name
+                    ),
+                    None => e.to_string(),
+                };
+                ServiceError::field(format!("fluid.mixture.components[{i}].fluid"), message)
             })?;
             if resolved
                 .iter()

@@ -1082,7 +1082,11 @@ async fn invalid_custom_mixtures_get_mixture_invalid() {
         }
     };
     let twice_words = ["fluid.mixture.components[1].fluid", "twice"];
-    let blend_words = ["fluid.mixture.components[0].fluid"];
+    let blend_words = [
+        "fluid.mixture.components[0].fluid",
+        "is a blend",
+        "pure fluids",
+    ];
 
     let mut watch = Watch::open(&server, None).await;
     let response = watch.send(vec![twice("MIX-A", 0), blend("MIX-B", 0)]).await;

@@ -69,6 +69,11 @@ fn batch(name: &str, ts: Vec<f64>, ps: Vec<f64>) -> Call {
     })
 }
 
+/// `x` rounded to 9 decimals: as a message prints a value of a few hundred or thousand kelvin.
+fn round_9(x: f64) -> f64 {
+    (x * 1e9).round() / 1e9
+}
+
 fn words(list: &[&str]) -> Vec<String> {
     list.iter().map(|s| (*s).to_owned()).collect()
 }
@@ -250,7 +255,8 @@ async fn bad_requests_get_precise_statuses() {
             code: Code::OutOfRange,
             fragments: vec![
                 "temperature_k".into(),
-                format!("valid {t_lo} K to {t_hi} K"),
+                // Messages print 12 significant digits: 5 x 369.89 K shows as 1849.45 K.
+                format!("valid {} K to {} K", round_9(t_lo), round_9(t_hi)),
             ],
             violation: Some("temperature_k"),
         },
@@ -390,6 +396,32 @@ async fn bad_requests_get_precise_statuses() {
             code: Code::InvalidArgument,
             fragments: words(&["fraction", "finite"]),
             violation: Some("fluid.mixture.components[0].fraction"),
+        },
+        Refusal {
+            what: "a blend as a mixture component (GetState)",
+            call: Call::State(pb::GetStateRequest {
+                fluid: Some(pb::FluidSelector {
+                    choice: Some(pb::fluid_selector::Choice::Mixture(pb::Mixture {
+                        components: vec![
+                            pb::MixtureComponent {
+                                fluid: "R-410A".into(),
+                                fraction: 0.5,
+                            },
+                            pb::MixtureComponent {
+                                fluid: "propane".into(),
+                                fraction: 0.5,
+                            },
+                        ],
+                        fraction_basis: pb::FractionBasis::Mole as i32,
+                    })),
+                }),
+                temperature_k: 280.0,
+                pressure_pa: 1.0e5,
+                ..Default::default()
+            }),
+            code: Code::InvalidArgument,
+            fragments: words(&["R-410A is a blend", "pure fluids"]),
+            violation: Some("fluid.mixture.components[0].fluid"),
         },
     ];
     check_all(&mut client, table).await;
