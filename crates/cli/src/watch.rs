@@ -50,6 +50,10 @@ use crate::units::{
     fmt_temperature_difference,
 };
 
+/// Slowest replay factor: below it a replay of a few seconds of readings would take days.
+const MIN_SPEED: f64 = 0.001;
+/// Fastest replay factor: beyond it readings go as fast as they are read anyway.
+const MAX_SPEED: f64 = 1e9;
 /// Readings sent in one request at most.
 const BATCH: usize = 500;
 /// Largest message the command sends or accepts.
@@ -758,10 +762,11 @@ impl Printer {
 /// when rows were skipped (the count is printed).
 pub async fn run(settings: &Settings, args: &WatchArgs) -> anyhow::Result<ExitCode> {
     if let Some(speed) = args.speed
-        && !(speed.is_finite() && speed > 0.0)
+        && !(MIN_SPEED..=MAX_SPEED).contains(&speed)
     {
         bail!(
-            "--speed {speed}: give a factor above 0 (1 replays in real time, 60 one minute per second)"
+            "--speed {speed}: give a factor from {MIN_SPEED} to {MAX_SPEED:e} (1 replays in real \
+             time, 60 one minute per second, 0.001 one second in about 17 minutes)"
         );
     }
     let opening = opening(settings, args)?;
@@ -873,7 +878,7 @@ pub async fn run(settings: &Settings, args: &WatchArgs) -> anyhow::Result<ExitCo
                 let t = &printer.tally;
                 writeln!(
                     std::io::stderr(),
-                    "{} readings played: {} raised, {} cleared, {} quality events, {} stale tags; \
+                    "{} readings played: {} raised, {} cleared, {} quality events, {} stale-tag events; \
                      {} rows skipped. Alarms are advisory: no substitute for the plant's own \
                      protection.",
                     t.readings,

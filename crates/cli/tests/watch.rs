@@ -304,3 +304,16 @@ fn without_a_file_watch_reads_standard_input() {
         result.stderr
     );
 }
+
+/// A replay factor so small that a few seconds of readings would take days is refused up front,
+/// naming the option and its range.
+#[test]
+fn a_replay_speed_outside_its_range_is_refused() {
+    let csv = example("harrowgate_cold_store.csv");
+    for speed in ["1e-30", "0", "-1", "NaN"] {
+        let result = run(&["watch", &csv, &format!("--speed={speed}")]);
+        let stderr = result.failed();
+        assert!(stderr.contains("--speed"), "{speed}: {stderr}");
+        assert!(stderr.contains("0.001"), "{speed}: {stderr}");
+    }
+}

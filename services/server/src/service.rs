@@ -250,6 +250,18 @@ impl PhaseService for PhaseApi {
     ) -> Result<Response<pb::ListFluidsResponse>, Status> {
         let request = request.into_inner();
         let text = normalize(&request.text);
+        if text.is_empty() && !request.text.trim().is_empty() {
+            // Matching ignores everything but letters and digits: such a text would keep all.
+            return Err(ServiceError::field(
+                "text",
+                format!(
+                    "`{}` has no letters or digits, so it matches every fluid; give part of a \
+                     name, number or formula, or leave it empty to list all",
+                    request.text
+                ),
+            )
+            .into());
+        }
         let fluids = self
             .engines
             .catalogue()

@@ -206,6 +206,17 @@ async fn list_fluids_filters_by_text() {
         .expect("A1 and R-290")
         .into_inner();
     assert!(nothing.fluids.is_empty(), "{nothing:?}");
+    // A text of punctuation only would match every fluid: refused, naming the field.
+    let refused = client
+        .list_fluids(text("%"))
+        .await
+        .expect_err("no letters or digits");
+    assert_eq!(refused.code(), tonic::Code::InvalidArgument);
+    assert!(
+        refused.message().starts_with("text:"),
+        "{}",
+        refused.message()
+    );
     server.stop().await;
 }
 
