@@ -296,8 +296,12 @@ pub enum UnitError {
     },
 }
 
-/// A number for a message: at most one decimal, no trailing `.0` (`1000`, `350.5`, `NaN`).
+/// A number for a message: at most one decimal, no trailing `.0` (`1000`, `350.5`, `NaN`); in
+/// powers of ten from 1e15 up (`1e300`, not 301 digits).
 fn short(value: f64) -> String {
+    if value.abs() >= 1e15 && value.is_finite() {
+        return format!("{value:e}");
+    }
     let text = format!("{value:.1}");
     match text.strip_suffix(".0") {
         Some("-0") => "0".to_string(),
@@ -1960,6 +1964,8 @@ mod tests {
             (-0.01, "0"),
             (-2_500.0, "-2500"),
             (f64::NAN, "NaN"),
+            (1e300, "1e300"),
+            (-2.5e20, "-2.5e20"),
         ];
         for (value, expected) in rows {
             assert_eq!(short(*value), *expected, "{value}");
