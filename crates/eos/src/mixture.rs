@@ -786,8 +786,21 @@ impl Mixture {
         let p_low = match cell.get() {
             Some(&p) => p,
             None => {
-                let p = self.boundary_pressure(t_min, bubble)?.pressure_pa;
-                *cell.get_or_init(|| p)
+                // The line's low end is the mixture's own limit, not the caller's temperature:
+                // a failure there is reported against the pressure asked for.
+                let lowest = self.boundary_pressure(t_min, bubble).map_err(|e| {
+                    Error::outside_envelope(
+                        "pressure_pa",
+                        p,
+                        format!(
+                            "the mixture's {} line cannot be found at its lowest temperature, \
+                             {t_min} K, so no {} temperature can be given for a pressure ({e})",
+                            if bubble { "bubble" } else { "dew" },
+                            if bubble { "bubble" } else { "dew" },
+                        ),
+                    )
+                })?;
+                *cell.get_or_init(|| lowest.pressure_pa)
             }
         };
         if p < p_low {

@@ -148,7 +148,7 @@ fn fitted_models_against_nist_tables() {
 
 /// IAPWS-IF97 region 4 saturation-pressure equation (IAPWS R7-97(2012), eq. 30), used as
 /// an independent water reference.
-fn if97_saturation_pressure_pa(t: f64) -> f64 {
+pub fn if97_saturation_pressure_pa(t: f64) -> f64 {
     const N: [f64; 10] = [
         0.116_705_214_527_67e4,
         -0.724_213_167_032_06e6,

@@ -145,3 +145,28 @@ fn outside_the_envelope_is_a_precise_error() {
         }
     }
 }
+
+/// A query by pressure names the pressure when the mixture's own line cannot be found at its
+/// lowest temperature (water with nitrogen: nitrogen is far above its critical temperature,
+/// 126.2 K, at water's triple point, 273.16 K; NIST Chemistry WebBook), never a temperature the
+/// caller did not send.
+#[test]
+fn a_pressure_query_names_the_pressure() {
+    let model = Model::PengRobinson1978;
+    let water = PureEos::new(&crate::accuracy::fitted(&util::water(), model), model).unwrap();
+    let nitrogen = PureEos::new(&crate::accuracy::fitted(&util::nitrogen(), model), model).unwrap();
+    let mix = Mixture::new(vec![water, nitrogen], vec![0.5, 0.5], None).unwrap();
+    let err = mix.bubble_at_pressure(1.0e5).unwrap_err();
+    assert_eq!(err.field(), Some("pressure_pa"), "{err}");
+    assert!(err.to_string().contains("lowest temperature"), "{err}");
+    // The dew point exists: water condenses where its partial pressure, 0.5 x 1e5 Pa, reaches
+    // its vapor pressure (nitrogen barely dissolves), i.e. where the IAPWS-IF97 saturation
+    // pressure is 50 kPa, within the fitted water model's recorded deviation (under 1 %).
+    let dew = mix.dew_at_pressure(1.0e5).unwrap();
+    let p_water = crate::accuracy::if97_saturation_pressure_pa(dew.temperature_k);
+    assert!(
+        (p_water / 0.5e5 - 1.0).abs() < 0.01,
+        "dew at {} K, where IF97 gives {p_water} Pa",
+        dew.temperature_k
+    );
+}
