@@ -564,6 +564,27 @@ fn marked_points(svg: &str, marks: &[&str]) -> Vec<(f64, f64)> {
 }
 
 #[test]
+fn a_diagram_mark_outside_the_model_range_is_refused() {
+    let out = scratch("diagram-refused").join("r134a.svg");
+    let out_text = out.to_str().expect("UTF-8 path");
+    for kind in ["pt", "ph"] {
+        let refused = run(&[
+            "diagram",
+            "R-134a",
+            "--kind",
+            kind,
+            "--out",
+            out_text,
+            "--mark",
+            "1e300C,1e300MPa",
+        ]);
+        let stderr = refused.failed();
+        assert!(stderr.contains("--mark"), "{kind}: {stderr}");
+        assert!(stderr.contains("valid"), "{kind}: {stderr}");
+    }
+}
+
+#[test]
 fn pressure_temperature_diagram_as_svg() {
     let out = scratch("diagram-svg").join("co2-rk2.svg");
     let out_text = out.to_str().expect("UTF-8 path");

@@ -24,8 +24,8 @@ use std::sync::Once;
 
 use anyhow::{Context as _, anyhow, bail};
 use binodal_proto::v1::{
-    EquationOfState, FluidDescription, GetSaturationRequest, GetStateRequest, Phase,
-    PressureTemperaturePoint, get_saturation_request,
+    EquationOfState, FluidDescription, GetSaturationRequest, GetStateRequest, GetStateResponse,
+    Phase, PressureTemperaturePoint, get_saturation_request,
 };
 use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
@@ -207,7 +207,19 @@ pub async fn run(
     let mut points = Vec::with_capacity(readings.len());
     for (mark, pressure) in &readings {
         let h = match kind {
-            DiagramKind::Pt => None,
+            DiagramKind::Pt => {
+                // Refused as on the P-h diagram when outside the model's range.
+                state_at(
+                    &service,
+                    settings,
+                    &fluid,
+                    mark.temperature.kelvin(),
+                    pressure.value_pa,
+                )
+                .await
+                .with_context(|| format!("--mark {mark}"))?;
+                None
+            }
             DiagramKind::Ph => {
                 let h = enthalpy_at(
                     &service,
@@ -462,13 +474,14 @@ async fn sample_curve(
 }
 
 /// The specific enthalpy at (T, P), or `None` on the saturation line.
-async fn enthalpy_at(
+/// The server's state at (T, P): the check that a marked point lies in the model's range.
+async fn state_at(
     service: &Service,
     settings: &Settings,
     fluid: &FluidDescription,
     t: f64,
     p: f64,
-) -> anyhow::Result<Option<f64>> {
+) -> anyhow::Result<GetStateResponse> {
     let request = GetStateRequest {
         fluid: selector(&fluid.fluid_id),
         equation_of_state: model(settings).into(),
@@ -476,12 +489,22 @@ async fn enthalpy_at(
         temperature_k: t,
         pressure_pa: p,
     };
-    let response = service
+    Ok(service
         .phase()
         .get_state(request)
         .await
         .map_err(|status| service.error(status))?
-        .into_inner();
+        .into_inner())
+}
+
+async fn enthalpy_at(
+    service: &Service,
+    settings: &Settings,
+    fluid: &FluidDescription,
+    t: f64,
+    p: f64,
+) -> anyhow::Result<Option<f64>> {
+    let response = state_at(service, settings, fluid, t, p).await?;
     if response.phase() == Phase::Saturated {
         return Ok(None);
     }
