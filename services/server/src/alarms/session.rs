@@ -584,6 +584,8 @@ impl Evaluator {
             Some(p) => Some(p),
         };
         let ambient = match reading.pressure_kind {
+            // Without a pressure, its kind is no second problem.
+            PressureKindIn::Missing if reading.pressure_pa.is_none() => None,
             PressureKindIn::Missing => {
                 problems.push(Problem::new(
                     QualityIssue::PressureKindMissing,

@@ -380,6 +380,7 @@ async fn bad_readings_get_quality_events_and_never_end_the_stream() {
     r.pressure_pa = None;
     r.temperature_k = None;
     cases.push((r, vec![Q::PressureMissing, Q::TemperatureMissing]));
+
     cases.push((good(9), vec![Q::TimestampOutOfOrder])); // timestamp going back
     cases.push((good(14), vec![Q::DuplicateTimestamp]));
     let mut r = good(15);
@@ -430,7 +431,12 @@ async fn bad_readings_get_quality_events_and_never_end_the_stream() {
     let mut r = good(21);
     r.quality = pb::ReadingQuality::Uncertain as i32;
     cases.push((r, vec![Q::UncertainQualityFlag])); // evaluated all the same
-    cases.push((good(22), vec![])); // the stream still evaluates
+    // A missing pressure with no kind (an empty cell) is one problem, not two.
+    let mut r = good(22);
+    r.pressure_pa = None;
+    r.pressure_kind = pb::PressureKind::Unspecified as i32;
+    cases.push((r, vec![Q::PressureMissing]));
+    cases.push((good(23), vec![])); // the stream still evaluates
 
     // One reading per request, so that each response belongs to one case.
     for (index, (reading, expected)) in cases.into_iter().enumerate() {
