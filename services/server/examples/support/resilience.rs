@@ -78,6 +78,27 @@ pub fn is_retryable(status: &Status) -> bool {
     }
 }
 
+/// Retries allowed, beyond `Backoff::attempts`, for calls refused at connect (see
+/// [`call_with_retry`]).
+pub const REFUSED_RETRIES: u32 = 20;
+
+/// Whether the call never left this client: the connection to the replica the balancer chose
+/// was refused (a replica that is down). Such a call is safe to send again, even if it were not
+/// idempotent.
+pub fn refused_at_connect(status: &Status) -> bool {
+    let mut source = std::error::Error::source(status);
+    while let Some(error) = source {
+        if error
+            .downcast_ref::<std::io::Error>()
+            .is_some_and(|io| io.kind() == std::io::ErrorKind::ConnectionRefused)
+        {
+            return true;
+        }
+        source = error.source();
+    }
+    false
+}
+
 /// What a call with retries came to.
 #[derive(Debug)]
 pub struct Outcome<T> {
@@ -89,18 +110,27 @@ pub struct Outcome<T> {
 
 /// Runs `call` until it succeeds, fails in a way that is not retryable, or `backoff.attempts`
 /// attempts have been made. Use only for idempotent calls.
+///
+/// Attempts refused at connect do not count against `backoff.attempts` (up to
+/// [`REFUSED_RETRIES`] of them, each after the first, shortest wait): right after a replica
+/// dies, the balancer still offers its endpoint until it has failed to reconnect, and a call may
+/// be sent there several times in a row before the balancer steers around it.
 pub async fn call_with_retry<T, F, Fut>(backoff: &Backoff, mut call: F) -> Outcome<T>
 where
     F: FnMut() -> Fut,
     Fut: Future<Output = Result<T, Status>>,
 {
-    let mut attempts = 0;
+    let (mut attempts, mut refused) = (0, 0);
     loop {
         attempts += 1;
         let result = call().await;
         match result {
-            Err(status) if attempts < backoff.attempts && is_retryable(&status) => {
-                tokio::time::sleep(backoff.wait(attempts)).await;
+            Err(status) if refused < REFUSED_RETRIES && refused_at_connect(&status) => {
+                refused += 1;
+                tokio::time::sleep(backoff.wait(1)).await;
+            }
+            Err(status) if attempts - refused < backoff.attempts && is_retryable(&status) => {
+                tokio::time::sleep(backoff.wait(attempts - refused)).await;
             }
             result => return Outcome { result, attempts },
         }

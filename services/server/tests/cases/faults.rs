@@ -23,7 +23,7 @@ use tonic::transport::{Channel, Endpoint};
 
 use crate::cases::{fluid, slow_mixture};
 use crate::util::process::{Launch, PROCESS_GUARD, ServerProcess, sample};
-use crate::util::resilience::{Backoff, balanced_channel, call_with_retry};
+use crate::util::resilience::{Backoff, balanced_channel, call_with_retry, refused_at_connect};
 
 async fn connect(url: &str) -> Channel {
     Endpoint::from_shared(url.to_owned())
@@ -474,4 +474,26 @@ async fn an_invalid_setting_stops_start_up_naming_the_setting_and_its_range() {
         assert_refused(&format!("--config {file}"), status, &stderr, fragments);
     }
     std::fs::remove_dir_all(&dir).ok();
+}
+
+/// A call to a port where nothing listens is recognised as refused at connect (the retry rule
+/// that lets a client steer around a replica that just died), and a refusal sent by a server is
+/// not.
+#[tokio::test]
+async fn a_refused_connection_is_told_apart_from_a_refused_call() {
+    let port = std::net::TcpListener::bind("127.0.0.1:0")
+        .and_then(|listener| listener.local_addr())
+        .expect("a free port")
+        .port();
+    let channel = Endpoint::from_shared(format!("http://127.0.0.1:{port}"))
+        .expect("address")
+        .connect_lazy();
+    let status = PhaseServiceClient::new(channel)
+        .get_saturation(saturation_request(0))
+        .await
+        .expect_err("nothing listens");
+    assert!(refused_at_connect(&status), "{status:?}");
+    assert!(!refused_at_connect(&tonic::Status::unavailable(
+        "server busy"
+    )));
 }
