@@ -206,30 +206,20 @@ pub async fn run(
 
     let mut points = Vec::with_capacity(readings.len());
     for (mark, pressure) in &readings {
+        // Every mark goes to the server, which refuses one outside the model's range.
+        let state = state_at(
+            &service,
+            settings,
+            &fluid,
+            mark.temperature.kelvin(),
+            pressure.value_pa,
+        )
+        .await
+        .with_context(|| format!("--mark {mark}"))?;
         let h = match kind {
-            DiagramKind::Pt => {
-                // Refused as on the P-h diagram when outside the model's range.
-                state_at(
-                    &service,
-                    settings,
-                    &fluid,
-                    mark.temperature.kelvin(),
-                    pressure.value_pa,
-                )
-                .await
-                .with_context(|| format!("--mark {mark}"))?;
-                None
-            }
+            DiagramKind::Pt => None,
             DiagramKind::Ph => {
-                let h = enthalpy_at(
-                    &service,
-                    settings,
-                    &fluid,
-                    mark.temperature.kelvin(),
-                    pressure.value_pa,
-                )
-                .await
-                .with_context(|| format!("--mark {mark}"))?;
+                let h = enthalpy_of(state, &fluid).with_context(|| format!("--mark {mark}"))?;
                 if h.is_none() {
                     notes.push(format!(
                         "--mark {mark} lies on the saturation line, where temperature and \
@@ -497,14 +487,12 @@ async fn state_at(
         .into_inner())
 }
 
-async fn enthalpy_at(
-    service: &Service,
-    settings: &Settings,
+/// The specific enthalpy of a state, or `None` on the saturation line, where T and P do not fix
+/// it.
+fn enthalpy_of(
+    response: GetStateResponse,
     fluid: &FluidDescription,
-    t: f64,
-    p: f64,
 ) -> anyhow::Result<Option<f64>> {
-    let response = state_at(service, settings, fluid, t, p).await?;
     if response.phase() == Phase::Saturated {
         return Ok(None);
     }

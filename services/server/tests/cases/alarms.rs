@@ -1539,14 +1539,19 @@ async fn an_evaluation_batch_over_the_limit_is_refused_naming_the_limit() {
     server.stop().await;
 }
 
+/// A server whose message limit is 64 KiB, so that answers and requests reach it with little data.
+async fn small_message_server() -> TestServer {
+    let mut settings = Settings::default();
+    settings.limits.max_message_size_bytes = 64 * 1024;
+    TestServer::start_with(settings).await
+}
+
 /// An answer larger than the server's message limit is refused with the setting's name and how
 /// many readings would fit, instead of the transport's bare "message length too large"; that
 /// many readings are then answered.
 #[tokio::test]
 async fn an_answer_over_the_message_limit_says_how_many_readings_fit() {
-    let mut settings = Settings::default();
-    settings.limits.max_message_size_bytes = 64 * 1024;
-    let server = TestServer::start_with(settings).await;
+    let server = small_message_server().await;
     let mut client = AlarmServiceClient::new(server.channel().await);
     let request = |count: i64| pb::EvaluateReadingsRequest {
         setup: Some(opening(
@@ -1594,9 +1599,7 @@ async fn an_answer_over_the_message_limit_says_how_many_readings_fit() {
 /// "nothing to report".
 #[tokio::test]
 async fn an_unreadable_stream_request_ends_the_stream_with_the_reason() {
-    let mut settings = Settings::default();
-    settings.limits.max_message_size_bytes = 64 * 1024;
-    let server = TestServer::start_with(settings).await;
+    let server = small_message_server().await;
     let mut watch = Watch::open(&server, None).await;
     let huge = reading(&"T".repeat(100_000), "R-717", 0, 240.0, 2.0e5);
     watch

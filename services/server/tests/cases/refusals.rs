@@ -52,6 +52,27 @@ fn state(name: &str, t: f64, p: f64) -> Call {
     })
 }
 
+/// GetState at 280 K and 1 bar of a custom mixture of `(name, mole fraction)` components.
+fn mixture_state(components: &[(&str, f64)]) -> Call {
+    Call::State(pb::GetStateRequest {
+        fluid: Some(pb::FluidSelector {
+            choice: Some(pb::fluid_selector::Choice::Mixture(pb::Mixture {
+                components: components
+                    .iter()
+                    .map(|&(name, fraction)| pb::MixtureComponent {
+                        fluid: name.into(),
+                        fraction,
+                    })
+                    .collect(),
+                fraction_basis: pb::FractionBasis::Mole as i32,
+            })),
+        }),
+        temperature_k: 280.0,
+        pressure_pa: 1.0e5,
+        ..Default::default()
+    })
+}
+
 fn saturation(name: &str, condition: Option<Condition>) -> Call {
     Call::Saturation(pb::GetSaturationRequest {
         fluid: fluid(name),
@@ -373,52 +394,14 @@ async fn bad_requests_get_precise_statuses() {
         },
         Refusal {
             what: "mixture with a NaN fraction",
-            call: Call::State(pb::GetStateRequest {
-                fluid: Some(pb::FluidSelector {
-                    choice: Some(pb::fluid_selector::Choice::Mixture(pb::Mixture {
-                        components: vec![
-                            pb::MixtureComponent {
-                                fluid: "propane".into(),
-                                fraction: f64::NAN,
-                            },
-                            pb::MixtureComponent {
-                                fluid: "isobutane".into(),
-                                fraction: 0.5,
-                            },
-                        ],
-                        fraction_basis: pb::FractionBasis::Mole as i32,
-                    })),
-                }),
-                temperature_k: 280.0,
-                pressure_pa: 1.0e5,
-                ..Default::default()
-            }),
+            call: mixture_state(&[("propane", f64::NAN), ("isobutane", 0.5)]),
             code: Code::InvalidArgument,
             fragments: words(&["fraction", "finite"]),
             violation: Some("fluid.mixture.components[0].fraction"),
         },
         Refusal {
             what: "a blend as a mixture component (GetState)",
-            call: Call::State(pb::GetStateRequest {
-                fluid: Some(pb::FluidSelector {
-                    choice: Some(pb::fluid_selector::Choice::Mixture(pb::Mixture {
-                        components: vec![
-                            pb::MixtureComponent {
-                                fluid: "R-410A".into(),
-                                fraction: 0.5,
-                            },
-                            pb::MixtureComponent {
-                                fluid: "propane".into(),
-                                fraction: 0.5,
-                            },
-                        ],
-                        fraction_basis: pb::FractionBasis::Mole as i32,
-                    })),
-                }),
-                temperature_k: 280.0,
-                pressure_pa: 1.0e5,
-                ..Default::default()
-            }),
+            call: mixture_state(&[("R-410A", 0.5), ("propane", 0.5)]),
             code: Code::InvalidArgument,
             fragments: words(&["R-410A is a blend", "pure fluids"]),
             violation: Some("fluid.mixture.components[0].fluid"),
