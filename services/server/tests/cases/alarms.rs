@@ -83,6 +83,14 @@ impl Watch {
     }
 }
 
+/// `count` good absolute readings of the ammonia pump suction NH3-P101, one a second from
+/// [`T0`], all at `temperature_k` and `pressure_pa`.
+fn pump_readings(count: i64, temperature_k: f64, pressure_pa: f64) -> Vec<pb::Reading> {
+    (0..count)
+        .map(|i| reading("NH3-P101", "R-717", i, temperature_k, pressure_pa))
+        .collect()
+}
+
 /// A good absolute reading of `tag` at `seconds` after [`T0`].
 fn reading(
     tag: &str,
@@ -1515,9 +1523,7 @@ async fn an_evaluation_batch_over_the_limit_is_refused_naming_the_limit() {
     let mut alarms = AlarmServiceClient::new(server.channel().await);
     let batch = |n: i64| pb::EvaluateReadingsRequest {
         setup: None,
-        readings: (0..n)
-            .map(|i| reading("NH3-P101", "R-717", i, 250.0, 3.0e5))
-            .collect(),
+        readings: pump_readings(n, 250.0, 3.0e5),
     };
     let status = alarms
         .evaluate_readings(batch(11))
@@ -1564,9 +1570,7 @@ async fn an_answer_over_the_message_limit_says_how_many_readings_fit() {
                 15.0,
             )],
         )),
-        readings: (0..count)
-            .map(|i| reading("NH3-P101", "R-717", i, 240.0, 2.0e5))
-            .collect(),
+        readings: pump_readings(count, 240.0, 2.0e5),
     };
     let status = client
         .evaluate_readings(request(600))
