@@ -83,6 +83,20 @@ impl Watch {
     }
 }
 
+/// NH3-P101 with one rule: at least 3 K subcooling (deadband 1 K, delays 15 s).
+fn pump_subcooling_opening() -> pb::WatchOpening {
+    opening(
+        "NH3-P101",
+        vec![rule(
+            pb::AlarmRuleKind::MinimumSubcooling,
+            3.0,
+            1.0,
+            15.0,
+            15.0,
+        )],
+    )
+}
+
 /// `count` good absolute readings of the ammonia pump suction NH3-P101, one a second from
 /// [`T0`], all at `temperature_k` and `pressure_pa`.
 fn pump_readings(count: i64, temperature_k: f64, pressure_pa: f64) -> Vec<pb::Reading> {
@@ -172,20 +186,7 @@ fn alarm_events(response: &pb::WatchResponse) -> Vec<(i64, pb::AlarmEvent)> {
 #[tokio::test]
 async fn deadband_and_delays_give_exactly_the_expected_events() {
     let server = TestServer::start().await;
-    let mut watch = Watch::open(
-        &server,
-        Some(opening(
-            "NH3-P101",
-            vec![rule(
-                pb::AlarmRuleKind::MinimumSubcooling,
-                3.0,
-                1.0,
-                15.0,
-                15.0,
-            )],
-        )),
-    )
-    .await;
+    let mut watch = Watch::open(&server, Some(pump_subcooling_opening())).await;
     // Suction at 2 bar absolute; the temperature is set from the engine's own saturation
     // temperature so that the subcooling is the script's value.
     let pressure = 2.0e5;
@@ -712,16 +713,7 @@ async fn evaluate_readings_judges_each_reading_without_state() {
     let mut bad = reading("NH3-P101", "R-717", 1, tsat - 1.0, 2.0e5);
     bad.pressure_kind = pb::PressureKind::Unspecified as i32;
     let request = pb::EvaluateReadingsRequest {
-        setup: Some(opening(
-            "NH3-P101",
-            vec![rule(
-                pb::AlarmRuleKind::MinimumSubcooling,
-                3.0,
-                1.0,
-                15.0,
-                15.0,
-            )],
-        )),
+        setup: Some(pump_subcooling_opening()),
         readings: vec![
             reading("NH3-P101", "R-717", 0, tsat - 1.0, 2.0e5),
             reading("NH3-P101", "R-717", 0, tsat - 6.0, 2.0e5),
@@ -1560,16 +1552,7 @@ async fn an_answer_over_the_message_limit_says_how_many_readings_fit() {
     let server = small_message_server().await;
     let mut client = AlarmServiceClient::new(server.channel().await);
     let request = |count: i64| pb::EvaluateReadingsRequest {
-        setup: Some(opening(
-            "NH3-P101",
-            vec![rule(
-                pb::AlarmRuleKind::MinimumSubcooling,
-                3.0,
-                1.0,
-                15.0,
-                15.0,
-            )],
-        )),
+        setup: Some(pump_subcooling_opening()),
         readings: pump_readings(count, 240.0, 2.0e5),
     };
     let status = client
