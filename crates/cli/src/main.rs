@@ -3,8 +3,8 @@
 //! Exit codes: 0 success (also when the reader closes standard output or standard error early,
 //! e.g. piped into `head`); 1 an error (printed once, with its causes), also when a call failed
 //! on a broken connection; 2 a usage error (from the argument parser); for `health`, 1 when the
-//! service is reachable but not serving, and for `watch`, 1 when rows were skipped, whether or not
-//! the answer could be printed.
+//! service is reachable but not serving, and for `watch`, 1 when rows read were skipped, whether
+//! or not the answer could be printed.
 
 mod cli;
 mod client;

@@ -76,8 +76,8 @@ pub struct WatchArgs {
     /// Seconds of reading time after which a silent tag is reported stale [default: the server's]
     #[arg(long, value_name = "SECONDS")]
     pub stale_after: Option<f64>,
-    /// Replay at the pace of the timestamps, this many times faster (1 = real time); without it
-    /// readings are sent as fast as the service takes them
+    /// Replay at the pace of the timestamps, this many times faster (1 = real time; 0.001 to
+    /// 1e9); without it readings are sent as fast as the service takes them
     #[arg(long, value_name = "FACTOR")]
     pub speed: Option<f64>,
     /// Also print every reading's phase and margins, not only the events

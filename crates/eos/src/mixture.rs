@@ -789,6 +789,15 @@ impl Mixture {
                 // The line's low end is the mixture's own limit, not the caller's temperature:
                 // a failure there is reported against the pressure asked for.
                 let lowest = self.boundary_pressure(t_min, bubble).map_err(|e| {
+                    // A solver failure stays what it is (a defect to report).
+                    if !matches!(
+                        e.kind(),
+                        ErrorKind::OutOfRange { .. }
+                            | ErrorKind::NearCritical { .. }
+                            | ErrorKind::OutsideEnvelope { .. }
+                    ) {
+                        return e;
+                    }
                     Error::outside_envelope(
                         "pressure_pa",
                         p,

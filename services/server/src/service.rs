@@ -250,7 +250,7 @@ impl PhaseService for PhaseApi {
     ) -> Result<Response<pb::ListFluidsResponse>, Status> {
         let request = request.into_inner();
         let text = normalize(&request.text);
-        if text.is_empty() && !request.text.trim().is_empty() {
+        if text.is_empty() && !request.text.is_empty() {
             // Matching ignores everything but letters and digits: such a text would keep all.
             return Err(ServiceError::field(
                 "text",

@@ -463,7 +463,6 @@ async fn sample_curve(
     Ok((samples, skipped, used_model))
 }
 
-/// The specific enthalpy at (T, P), or `None` on the saturation line.
 /// The server's state at (T, P): the check that a marked point lies in the model's range.
 async fn state_at(
     service: &Service,

@@ -31,8 +31,10 @@ pub fn row_values(from: f64, to: f64, step: f64) -> anyhow::Result<Vec<f64>> {
         // A tiny step gives a row count beyond any integer type: show it in powers of ten.
         let rows = if rows < 1e12 {
             format!("{rows:.0}")
-        } else {
+        } else if rows.is_finite() {
             format!("{rows:.1e}")
+        } else {
+            "more than 1e308".to_string()
         };
         bail!(
             "--from, --to and --step give {rows} rows; a table has at most {MAX_ROWS} rows: use a \

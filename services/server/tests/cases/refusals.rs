@@ -90,9 +90,11 @@ fn batch(name: &str, ts: Vec<f64>, ps: Vec<f64>) -> Call {
     })
 }
 
-/// `x` rounded to 9 decimals: as a message prints a value of a few hundred or thousand kelvin.
-fn round_9(x: f64) -> f64 {
-    (x * 1e9).round() / 1e9
+/// `x` as engine messages print it: 12 significant digits, trailing zeros dropped (so
+/// 5 x 369.89 K = 1849.4499999999998 K prints as 1849.45 K).
+fn as_printed(x: f64) -> f64 {
+    let decimals = (11 - x.abs().log10().floor() as i32).max(0) as usize;
+    format!("{x:.decimals$}").parse().expect("a number")
 }
 
 fn words(list: &[&str]) -> Vec<String> {
@@ -276,8 +278,7 @@ async fn bad_requests_get_precise_statuses() {
             code: Code::OutOfRange,
             fragments: vec![
                 "temperature_k".into(),
-                // Messages print 12 significant digits: 5 x 369.89 K shows as 1849.45 K.
-                format!("valid {} K to {} K", round_9(t_lo), round_9(t_hi)),
+                format!("valid {} K to {} K", as_printed(t_lo), as_printed(t_hi)),
             ],
             violation: Some("temperature_k"),
         },
