@@ -207,16 +207,18 @@ async fn list_fluids_filters_by_text() {
         .into_inner();
     assert!(nothing.fluids.is_empty(), "{nothing:?}");
     // A text of punctuation only would match every fluid: refused, naming the field.
-    let refused = client
-        .list_fluids(text("%"))
-        .await
-        .expect_err("no letters or digits");
-    assert_eq!(refused.code(), tonic::Code::InvalidArgument);
-    assert!(
-        refused.message().starts_with("text:"),
-        "{}",
-        refused.message()
-    );
+    for punctuation in ["%", "  "] {
+        let refused = client
+            .list_fluids(text(punctuation))
+            .await
+            .expect_err("no letters or digits");
+        assert_eq!(refused.code(), tonic::Code::InvalidArgument);
+        assert!(
+            refused.message().starts_with("text:"),
+            "{}",
+            refused.message()
+        );
+    }
     server.stop().await;
 }
 
