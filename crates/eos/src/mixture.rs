@@ -798,14 +798,13 @@ impl Mixture {
                     ) {
                         return e;
                     }
+                    let line = if bubble { "bubble" } else { "dew" };
                     Error::outside_envelope(
                         "pressure_pa",
                         p,
                         format!(
-                            "the mixture's {} line cannot be found at its lowest temperature, \
-                             {t_min} K, so no {} temperature can be given for a pressure ({e})",
-                            if bubble { "bubble" } else { "dew" },
-                            if bubble { "bubble" } else { "dew" },
+                            "the mixture's {line} line cannot be found at its lowest temperature, \
+                             {t_min} K, so no {line} temperature can be given for a pressure ({e})"
                         ),
                     )
                 })?;

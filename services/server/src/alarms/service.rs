@@ -90,19 +90,19 @@ impl AlarmApi {
     }
 
     /// Refuses an answer the message limit would refuse on the wire (there as a bare "message
-    /// length too large"), saying how many readings would fit. `without_outcomes` gives the
-    /// answer's size without its per-reading outcomes, asked only when the answer is too large.
+    /// length too large"), saying how many readings would fit. `size` is the whole answer's
+    /// encoded size and `outcomes` its per-reading part (field 1 of both answer messages).
     fn check_answer_size(
         &self,
         size: usize,
-        without_outcomes: impl FnOnce() -> usize,
-        readings: usize,
+        outcomes: &[pb::ReadingOutcome],
     ) -> Result<(), ServiceError> {
         let limit = self.max_message_size;
         if size <= limit {
             return Ok(());
         }
-        let fixed = without_outcomes().min(size);
+        let readings = outcomes.len();
+        let fixed = size - prost::encoding::message::encoded_len_repeated(1, outcomes).min(size);
         let per_reading = (size - fixed) as f64 / readings.max(1) as f64;
         let fitting = (limit.saturating_sub(fixed) as f64 / per_reading.max(1.0)).floor();
         Err(ServiceError::LimitReached(format!(
@@ -172,8 +172,7 @@ impl AlarmApi {
             };
             let readings: Vec<ReadingIn> =
                 request.readings.into_iter().map(wire::reading).collect();
-            let readings_in_request = readings.len();
-            readings_seen += readings_in_request as u64;
+            readings_seen += readings.len() as u64;
             let response = if readings.len() >= BLOCKING_READINGS {
                 let work = tokio::task::spawn_blocking(move || {
                     let response = wire::watch_response(current.handle(readings, repeated_opening));
@@ -200,14 +199,7 @@ impl AlarmApi {
             let tags = current.tag_count();
             session = Some(current);
             // An answer over the message limit cannot be sent: the stream ends with the reason.
-            let size = response.encoded_len();
-            let without_outcomes = || {
-                let mut rest = response.clone();
-                rest.outcomes.clear();
-                rest.encoded_len()
-            };
-            if let Err(error) = self.check_answer_size(size, without_outcomes, readings_in_request)
-            {
+            if let Err(error) = self.check_answer_size(response.encoded_len(), &response.outcomes) {
                 let _ = responses.send(Err(error.into())).await;
                 break;
             }
@@ -288,12 +280,7 @@ impl AlarmService for AlarmApi {
         } else {
             compute()
         };
-        let without_outcomes = || {
-            let mut rest = response.clone();
-            rest.outcomes.clear();
-            rest.encoded_len()
-        };
-        self.check_answer_size(response.encoded_len(), without_outcomes, count)?;
+        self.check_answer_size(response.encoded_len(), &response.outcomes)?;
         Ok(Response::new(response))
     }
 }
